@@ -1,0 +1,3 @@
+from datemend.cli import main
+
+raise SystemExit(main())

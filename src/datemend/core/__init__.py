@@ -1,0 +1,1 @@
+"""The Qt-free core: reading, scanning, parsing, fix logs, derived columns, export."""

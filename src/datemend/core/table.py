@@ -1,0 +1,245 @@
+"""RawTable: the cells of one sheet exactly as the file holds them, with the kind of each cell.
+
+Nothing here interprets a value as a date; that is the engine's job. A reader fills a RawTable,
+the engine reads it, and nothing ever writes to it afterwards (parsed values live beside it in a
+CleanTable), so every fix can be undone and every export can include the original text.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from collections.abc import Iterator, Sequence
+from dataclasses import dataclass, field
+from enum import IntEnum
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+__all__ = [
+    "CellKind",
+    "DatemendError",
+    "RawColumn",
+    "RawTable",
+    "ReadError",
+    "SourceFacts",
+    "kinds_of",
+]
+
+
+class DatemendError(Exception):
+    """Base of every error a user can cause; ``str(err)`` is one sentence fit to show them."""
+
+
+class ReadError(DatemendError):
+    """A file could not be read as a table. The message names the file (and sheet if any)."""
+
+    def __init__(self, message: str, path: str | Path | None = None) -> None:
+        super().__init__(message)
+        self.path = None if path is None else str(path)
+
+
+class CellKind(IntEnum):
+    """What a cell held in the source file, before any interpretation."""
+
+    EMPTY = 0
+    TEXT = 1
+    INT = 2
+    FLOAT = 3
+    DATE = 4
+    DATETIME = 5
+    TIME = 6
+    BOOL = 7
+    ERROR = 8  # a spreadsheet error value such as "#N/A"; the value is that text
+
+
+@dataclass(frozen=True)
+class SourceFacts:
+    """Where a table came from. Information only: nothing is locked to these facts."""
+
+    path: str | None = None
+    format: str = "dataframe"  # "csv", "xlsx", "xlsm", "ods", "parquet" or "dataframe"
+    sheet: str | None = None
+    sheets: tuple[str, ...] = ()
+    header_row: int = 1  # 1-based row number of the header in the sheet or file
+    encoding: str | None = None
+    delimiter: str | None = None
+    date_system: int = 1900  # 1900 or 1904 (spreadsheet serial date system)
+    sha256: str | None = None
+    notes: tuple[str, ...] = ()  # renamed headers, merged or hidden cells, anything worth saying
+
+    @property
+    def file_name(self) -> str | None:
+        return None if self.path is None else Path(self.path).name
+
+    def where(self) -> str:
+        """Short description for messages: 'roster.xlsx, sheet "Members"'."""
+        name = self.file_name or "the table"
+        return f'{name}, sheet "{self.sheet}"' if self.sheet else name
+
+
+@dataclass(frozen=True, eq=False)
+class RawColumn:
+    """One column: original values (object array) and their kinds (int8 array of CellKind).
+
+    ``values`` holds Python objects as read: ``str`` for text and error cells, ``int``, ``float``,
+    ``bool``, ``datetime.date``, ``datetime.datetime``, ``datetime.time``, and ``None`` for empty.
+    CSV cells are always text (or empty): nothing is coerced.
+    """
+
+    name: str
+    values: np.ndarray
+    kinds: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.values)
+
+    def text(self) -> pd.Series:
+        """Each cell as text (None for empty), for pattern matching. Vectorised per kind."""
+        out = pd.Series(self.values, dtype=object)
+        kinds = self.kinds
+        other = (kinds != CellKind.TEXT) & (kinds != CellKind.EMPTY) & (kinds != CellKind.ERROR)
+        if other.any():
+            out[other] = [_as_text(v) for v in self.values[other]]
+        return out
+
+
+def _as_text(v: object) -> str:
+    if isinstance(v, bool):
+        return "TRUE" if v else "FALSE"
+    if isinstance(v, float) and v.is_integer():
+        return str(int(v))
+    if isinstance(v, _dt.datetime | _dt.date | _dt.time):
+        return v.isoformat()
+    return str(v)
+
+
+@dataclass(frozen=True, eq=False)
+class RawTable:
+    """The cells of one sheet: columns in file order, each with its values and kinds.
+
+    ``source_rows`` gives, for each data row, its 1-based row number in the file or sheet, so a
+    message can say "row 214".
+    """
+
+    columns: tuple[RawColumn, ...]
+    facts: SourceFacts = field(default_factory=SourceFacts)
+    source_rows: np.ndarray | None = None
+
+    def __post_init__(self) -> None:
+        lengths = {len(c) for c in self.columns}
+        if len(lengths) > 1:
+            raise ValueError(f"columns have different lengths: {sorted(lengths)}")
+        names = [c.name for c in self.columns]
+        if len(set(names)) != len(names):
+            raise ValueError("column names must be unique")
+        if self.source_rows is None:
+            start = self.facts.header_row + 1
+            object.__setattr__(
+                self, "source_rows", np.arange(start, start + self.n_rows, dtype=np.int64)
+            )
+
+    @property
+    def n_rows(self) -> int:
+        return len(self.columns[0]) if self.columns else 0
+
+    @property
+    def names(self) -> list[str]:
+        return [c.name for c in self.columns]
+
+    def __iter__(self) -> Iterator[RawColumn]:
+        return iter(self.columns)
+
+    def __contains__(self, name: object) -> bool:
+        return any(c.name == name for c in self.columns)
+
+    def column(self, name: str) -> RawColumn:
+        for c in self.columns:
+            if c.name == name:
+                return c
+        raise KeyError(f'{self.facts.where()} has no column "{name}"')
+
+    def to_dataframe(self) -> pd.DataFrame:
+        """The raw values as an object DataFrame (for notebooks and export of untouched cells)."""
+        return pd.DataFrame({c.name: pd.Series(c.values, dtype=object) for c in self.columns})
+
+    def take(self, rows: np.ndarray) -> RawTable:
+        """A table with only the given row positions (for partitions and previews)."""
+        cols = tuple(RawColumn(c.name, c.values[rows], c.kinds[rows]) for c in self.columns)
+        assert self.source_rows is not None
+        return RawTable(cols, self.facts, self.source_rows[rows])
+
+    @classmethod
+    def from_dataframe(
+        cls, df: pd.DataFrame, facts: SourceFacts | None = None, *, text_only: bool = False
+    ) -> RawTable:
+        """Wrap a pandas DataFrame. Kinds come from each value's Python type.
+
+        With ``text_only`` every non-empty value is taken as text (how a CSV is read).
+        """
+        cols = []
+        seen: set[str] = set()
+        for i, name in enumerate(df.columns):
+            label = str(name) if str(name).strip() else f"column {i + 1}"
+            while label in seen:
+                label = f"{label} ({i + 1})"
+            seen.add(label)
+            values = _object_values(df.iloc[:, i])
+            kinds = kinds_of(values, text_only=text_only)
+            if text_only:
+                values = np.where(kinds == CellKind.EMPTY, None, values).astype(object)
+            cols.append(RawColumn(label, values, kinds))
+        return cls(tuple(cols), facts or SourceFacts())
+
+
+def _object_values(series: pd.Series) -> np.ndarray:
+    """Values as Python objects, missing values as None, pandas timestamps as datetimes."""
+    if pd.api.types.is_datetime64_any_dtype(series.dtype):
+        out = np.array(series.dt.to_pydatetime(), dtype=object)
+        out[series.isna().to_numpy()] = None
+        return out
+    values = series.to_numpy(dtype=object, na_value=None)
+    mask = pd.isna(values)
+    if mask.any():
+        values = values.copy()
+        values[mask] = None
+    return values
+
+
+def kinds_of(values: Sequence[object] | np.ndarray, *, text_only: bool = False) -> np.ndarray:
+    """The CellKind of each value (int8 array). Empty strings and None are EMPTY."""
+    arr = np.asarray(values, dtype=object)
+    kinds = np.full(len(arr), CellKind.TEXT, dtype=np.int8)
+    if len(arr) == 0:
+        return kinds
+    types = pd.Series(arr, dtype=object).map(type)
+    is_none = np.fromiter((v is None for v in arr), dtype=bool, count=len(arr))
+    is_str = (types == str).to_numpy()  # noqa: E721 (elementwise, not a type check)
+    if is_str.any():
+        blank = pd.Series(arr[is_str], dtype=object).str.strip().eq("").to_numpy()
+        idx = np.flatnonzero(is_str)[blank]
+        kinds[idx] = CellKind.EMPTY
+    kinds[is_none] = CellKind.EMPTY
+    if text_only:
+        return kinds
+    table = {
+        bool: CellKind.BOOL,
+        np.bool_: CellKind.BOOL,
+        int: CellKind.INT,
+        np.int64: CellKind.INT,
+        float: CellKind.FLOAT,
+        np.float64: CellKind.FLOAT,
+        _dt.datetime: CellKind.DATETIME,
+        pd.Timestamp: CellKind.DATETIME,
+        _dt.date: CellKind.DATE,
+        _dt.time: CellKind.TIME,
+    }
+    for typ, kind in table.items():
+        hit = (types == typ).to_numpy()
+        if hit.any():
+            kinds[hit] = kind
+    floats = kinds == CellKind.FLOAT
+    if floats.any():
+        nan = pd.isna(pd.Series(arr[floats], dtype=object)).to_numpy()
+        kinds[np.flatnonzero(floats)[nan]] = CellKind.EMPTY
+    return kinds

@@ -42,6 +42,12 @@ class Step:
         return ()
 
     def to_dict(self) -> dict[str, Any]:
+        """JSON form: ``{"kind": self.kind, ...parameters}``; JSON values only."""
+        raise NotImplementedError
+
+    @classmethod
+    def schema(cls) -> dict[str, Any]:
+        """JSON Schema of this step's JSON form; the fix log's schema is built from these."""
         raise NotImplementedError
 
     @classmethod

@@ -53,7 +53,45 @@ def build_parser() -> argparse.ArgumentParser:
     s.add_argument("--json", action="store_true", help="print the reports as JSON")
     s.add_argument("--all", action="store_true", help="also list columns that are not dates")
     _order_flags(s)
+    s.add_argument("--reference-year", type=int, help="year two-digit years must not pass")
+
+    a = sub.add_parser("auto", help="accept the best reading of every date column and write OUT")
+    a.add_argument("file", help="a CSV, TSV, XLSX, XLSM, ODS or Parquet file")
+    a.add_argument("-o", "--output", required=True, help="OUT.csv, OUT.xlsx or OUT.parquet")
+    a.add_argument("--sheet", help="sheet name (workbooks; default: the first visible sheet)")
+    a.add_argument("--header-row", type=int, help="1-based header row (default: first non-empty)")
+    a.add_argument("--log-out", help="also save the fix log of the accepted fixes (JSON)")
+    a.add_argument("--overwrite", action="store_true", help="replace OUT if it exists")
+    a.add_argument("--reference-year", type=int, help="year two-digit years must not pass")
+    _order_flags(a)
+    _export_flags(a)
+
+    r = sub.add_parser("replay", help="replay a fix log on a new file: drift report, then OUT")
+    r.add_argument("log", help="a fix log (JSON) saved by the window or by `auto --log-out`")
+    r.add_argument("file", help="the new file; with --engine dask, files or a glob ('data/*.csv')")
+    r.add_argument("-o", "--output", required=True, help="OUT file (with --engine dask: a folder)")
+    r.add_argument("--sheet", help="sheet name (workbooks; default: the log's sheet, else first)")
+    r.add_argument("--header-row", type=int, help="1-based header row (default: first non-empty)")
+    r.add_argument("--strict", action="store_true", help="write nothing if anything drifted")
+    r.add_argument("--report", help="also save the drift report as JSON")
+    r.add_argument("--overwrite", action="store_true", help="replace OUT if it exists")
+    r.add_argument("--engine", choices=("local", "dask"), default="local", help="where to run")
+    r.add_argument("--scheduler", help="with --engine dask: address of an existing cluster")
+    r.add_argument(
+        "--today", help="reference date for steps set to 'the day of replay' (YYYY-MM-DD)"
+    )
+    _export_flags(r)
     return p
+
+
+def _export_flags(p: argparse.ArgumentParser) -> None:
+    p.add_argument(
+        "--keep-raw", action="store_true", help="keep each fixed column's raw text beside it"
+    )
+    p.add_argument("--date-format", help='number format of date cells (XLSX; default "yyyy-mm-dd")')
+    p.add_argument("--zone", help="write zone-aware values in this IANA zone (default UTC)")
+    p.add_argument("--delimiter", help="CSV delimiter (default ,)")
+    p.add_argument("--bom", action="store_true", help="CSV: start with a UTF-8 BOM")
 
 
 def _order_flags(p: argparse.ArgumentParser) -> None:
@@ -78,6 +116,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     command = args.command or "open"
+    from .core.progress import Cancelled
     from .core.table import DatemendError
 
     try:
@@ -87,12 +126,29 @@ def main(argv: Sequence[str] | None = None) -> int:
             from .cli_commands import run_scan
 
             return run_scan(args)
+        if command == "auto":
+            from .cli_commands import run_auto
+
+            return run_auto(args)
+        if command == "replay":
+            from .cli_commands import run_replay
+
+            return run_replay(args)
     except DatemendError as err:
         print(f"datemend: {err}", file=sys.stderr)
         return EXIT_INPUT
-    except KeyboardInterrupt:
+    except (KeyboardInterrupt, Cancelled):
         print("datemend: cancelled", file=sys.stderr)
         return EXIT_CANCELLED
+    except Exception as err:  # anything else is our bug: traceback to the log, one line on screen
+        from .crashlog import write_crash
+
+        where = write_crash(err, f"datemend {command}")
+        print(
+            f"datemend: internal error ({type(err).__name__}: {err}); details in {where}",
+            file=sys.stderr,
+        )
+        return EXIT_INTERNAL
     parser.error(f"unknown command {command!r}")
     return EXIT_USAGE
 

@@ -1,0 +1,170 @@
+"""The work behind each subcommand; cli.py only parses arguments and maps errors to exit codes."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+from typing import Any
+
+from .core.progress import Progress
+from .core.report import ColumnReport
+from .core.table import DatemendError, RawTable
+
+EXIT_OK = 0
+EXIT_UNRESOLVED = 4
+EXIT_STRICT = 5
+
+
+def _progress(enabled: bool) -> Progress:
+    """Terminal progress on stderr, only when stderr is a terminal."""
+    if not enabled or not sys.stderr.isatty():
+        return Progress()
+
+    def show(done: int, total: int, text: str) -> None:
+        pct = 100 * done // total if total else 100
+        print(f"\r{pct:3d}% {text[:60]:<60}", end="", file=sys.stderr, flush=True)
+
+    return Progress(show)
+
+
+def _read(args: argparse.Namespace, file: str | None = None) -> RawTable:
+    from .core.readers import read_table
+
+    return read_table(
+        file or args.file,
+        sheet=getattr(args, "sheet", None),
+        header_row=getattr(args, "header_row", None),
+    )
+
+
+def _scan(raw: RawTable, args: argparse.Namespace) -> list[ColumnReport]:
+    from .core.infer import scan
+
+    return scan(
+        raw,
+        prefer_day_order=getattr(args, "day_order", None),
+        reference_year=getattr(args, "reference_year", None),
+    )
+
+
+# --------------------------------------------------------------------------------------- scan
+
+
+def report_to_dict(rep: ColumnReport, *, failures: int = 20) -> dict[str, Any]:
+    """A JSON-safe summary of a column report (for --json and scripts)."""
+    best = rep.best
+    d: dict[str, Any] = {
+        "column": rep.column,
+        "rows": rep.n_rows,
+        "likeness": round(rep.likeness, 4),
+        "is_date": rep.is_date,
+        "blank": rep.blank,
+        "kinds": dict(rep.kinds),
+        "placeholders": [{"token": t, "count": n} for t, n in rep.placeholders],
+        "summary": rep.summary,
+        "suggestions": [],
+    }
+    for s in rep.suggestions:
+        d["suggestions"].append(
+            {
+                "label": s.label,
+                "score": round(s.score, 4),
+                "parsed": s.parsed,
+                "total": s.total,
+                "coverage": round(s.coverage, 4),
+                "failed": s.failed,
+                "ambiguous": s.ambiguous,
+                "mix": [{"pattern": p, "label": lab, "count": n} for p, lab, n in s.mix],
+                "examples": [{"raw": r, "parsed": v} for r, v in s.examples],
+                "evidence": list(s.evidence),
+                "warnings": list(s.warnings),
+                "decisions": dict(s.decisions),
+                "disagreements": [{"raw": r, "this": a, "next": b} for r, a, b in s.disagreements],
+                "failures": [
+                    {"row": f.source_row, "raw": f.raw, "reason": f.text}
+                    for f in s.failures[:failures]
+                ],
+                "spec": s.spec.to_dict(),
+            }
+        )
+    d["best"] = d["suggestions"][0]["label"] if best is not None else None
+    return d
+
+
+def format_report(rep: ColumnReport, *, examples: int = 3) -> list[str]:
+    """Readable lines for one column."""
+    best = rep.best
+    head = f"{rep.column}  —  date-likeness {rep.likeness:.0%}"
+    if not rep.is_date:
+        return [head + "  (not a date column)"]
+    lines = [head]
+    if best is None:
+        lines.append("  no way to read this column as dates")
+        return lines
+    lines.append(f"  best reading : {best.label}")
+    lines.append(
+        f"  coverage     : {best.parsed} of {best.total} non-blank cells ({best.coverage:.1%})"
+        f"; {rep.blank} blank"
+    )
+    if best.ambiguous:
+        lines.append(f"  unclear      : {best.ambiguous} cells could be read two ways")
+    for name, how in sorted(best.decisions.items()):
+        lines.append(f"  {name:<13}: decided by {how}")
+    for ev in best.evidence:
+        lines.append(f"  evidence     : {ev}")
+    for w in best.warnings:
+        lines.append(f"  CAUTION      : {w}")
+    if rep.placeholders:
+        toks = ", ".join(f'"{t}" ×{n}' for t, n in rep.placeholders)
+        lines.append(f"  placeholders : {toks} (suggested as blank)")
+    if best.failed:
+        lines.append(f"  not read     : {best.failed} cells, e.g.")
+        for f in best.failures[:examples]:
+            lines.append(f'                 row {f.source_row}: "{f.raw}" — {f.text}')
+    if len(rep.suggestions) > 1:
+        others = "; ".join(s.label for s in rep.suggestions[1:3])
+        lines.append(f"  other readings: {others}")
+    return lines
+
+
+def run_scan(args: argparse.Namespace) -> int:
+    raw = _read(args)
+    reports = _scan(raw, args)
+    if args.json:
+        out = {
+            "file": raw.facts.file_name,
+            "sheet": raw.facts.sheet,
+            "rows": raw.n_rows,
+            "date_system": raw.facts.date_system,
+            "notes": list(raw.facts.notes),
+            "columns": [report_to_dict(r) for r in reports],
+        }
+        json.dump(out, sys.stdout, indent=2, ensure_ascii=False)
+        print()
+        return EXIT_OK
+    print(f"{raw.facts.where()}: {raw.n_rows} rows, {len(raw.columns)} columns")
+    for note in raw.facts.notes:
+        print(f"  note: {note}")
+    shown = 0
+    for rep in reports:
+        if rep.is_date or args.all:
+            print()
+            print("\n".join(format_report(rep)))
+            shown += 1
+    others = [r.column for r in reports if not r.is_date]
+    if others and not args.all:
+        print()
+        print(f"Not date columns: {', '.join(others)} (--all shows them)")
+    if not shown:
+        print("No date columns found.")
+    return EXIT_OK
+
+
+def check_output_path(out: Path, source: str | None, overwrite: bool) -> None:
+    """Refuse to write over the source, or over an existing file without --overwrite."""
+    if source is not None and Path(source).resolve() == out.resolve():
+        raise DatemendError(f"{out} is the source file; datemend never writes over its input.")
+    if out.exists() and not overwrite:
+        raise DatemendError(f"{out} already exists; pass --overwrite to replace it.")

@@ -1,0 +1,109 @@
+"""Month names and abbreviations of en fr de es it pt nl, from Unicode CLDR via babel.
+
+Source: Unicode CLDR as shipped by babel (reference library): ``babel.dates.get_month_names``
+(wide and abbreviated, format and stand-alone) and ``babel.dates.format_date``. Each value is
+written by babel, never typed by hand, and must parse to the month babel named.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import pytest
+from babel.dates import format_date, get_day_names, get_month_names
+
+from ._refkit import CellState, as_us, run
+
+LOCALES = ["en", "fr", "de", "es", "it", "pt", "nl"]
+
+
+def month_variants(locale: str) -> dict[str, int]:
+    """Every distinct CLDR month name of a locale (wide, abbreviated; format, stand-alone)."""
+    out: dict[str, int] = {}
+    for width in ("wide", "abbreviated"):
+        for context in ("format", "stand-alone"):
+            for month, name in get_month_names(width, context, locale=locale).items():
+                name = str(name)
+                assert out.get(name, month) == month, f"{locale}: {name} names two months"
+                out[name] = month
+    return out
+
+
+def day_for(month: int) -> int:
+    return min(10 + month, 28)  # a different day per month, so a day error shows
+
+
+@pytest.mark.parametrize("locale", LOCALES)
+def test_every_cldr_month_name_in_day_month_year(locale: str) -> None:
+    # "13 <name> 1985" for every distinct CLDR name of the month.
+    names = month_variants(locale)
+    values = [f"{day_for(m)} {name} 1985" for name, m in names.items()]
+    assert len(set(values)) == len(values)
+    r = run(values)
+    bad = [
+        r.describe(i)
+        for i, (name, m) in enumerate(names.items())
+        if r.state(i) != CellState.PARSED or r.value(i) != as_us(dt.date(1985, m, day_for(m)))
+    ]
+    assert not bad, f"{locale}: {len(bad)} of {len(values)} wrong: " + "; ".join(bad[:6])
+
+
+@pytest.mark.parametrize("locale", LOCALES)
+@pytest.mark.parametrize("shape", ["long", "d MMM y", "EEEE d MMMM y", "EEE, d MMM y"])
+def test_babel_formatted_dates(locale: str, shape: str) -> None:
+    # Dates written by babel.dates.format_date in each locale: its long format (e.g. "12 de abril
+    # de 1985", "12. April 1985", "April 12, 1985"), abbreviated months, and with weekday names.
+    dates = [dt.date(1985 + m, m, day_for(m)) for m in range(1, 13)]
+    values = [format_date(d, shape, locale=locale) for d in dates]
+    assert len(set(values)) == len(values)
+    r = run(values)
+    bad = [
+        r.describe(i)
+        for i, d in enumerate(dates)
+        if r.state(i) != CellState.PARSED or r.value(i) != as_us(d)
+    ]
+    assert not bad, f"{locale} {shape!r}: {len(bad)} of 12 wrong: " + "; ".join(bad[:6])
+
+
+@pytest.mark.parametrize("locale", LOCALES)
+@pytest.mark.parametrize("case", ["upper", "lower"])
+def test_any_case(locale: str, case: str) -> None:
+    # Issue 3 point 2: month names in any case (str.upper/str.lower of babel's wide names).
+    wide = get_month_names("wide", locale=locale)
+    dates = [dt.date(2001, m, day_for(m)) for m in range(1, 13)]
+    values = [getattr(f"{d.day} {wide[d.month]} {d.year}", case)() for d in dates]
+    r = run(values)
+    bad = [
+        r.describe(i)
+        for i, d in enumerate(dates)
+        if r.state(i) != CellState.PARSED or r.value(i) != as_us(d)
+    ]
+    assert not bad, f"{locale} {case}: " + "; ".join(bad[:6])
+
+
+def test_weekday_names_are_cldr() -> None:
+    # Sanity of the reference: babel's weekday names cover seven days in each locale.
+    for locale in LOCALES:
+        assert len(get_day_names("wide", locale=locale)) == 7
+
+
+@pytest.mark.parametrize(
+    "suffix_value",
+    [
+        "April 12th, 1985",
+        "12th April 1985",
+        "1st May 1985",
+        "May 2nd 1985",
+        "3rd Jun 1985",
+        "Friday, April 12, 1985",
+    ],
+)
+def test_english_ordinal_suffixes_and_weekdays(suffix_value: str) -> None:
+    # Issue 3 point 2: ordinal suffixes and optional weekday names (English; dateutil as reference
+    # library reads them all).
+    from dateutil import parser as du_parser
+
+    expected = du_parser.parse(suffix_value)
+    r = run([suffix_value, "April 13th, 1985", "1st January 2000"])
+    assert r.state(0) == CellState.PARSED, r.describe(0)
+    assert r.value(0) == as_us(expected), r.describe(0)

@@ -1,0 +1,316 @@
+"""The one table-model adapter: the cells of one column, as written beside what they read as.
+
+Rows are positions into the core's numpy arrays through an index array (``_rows``), so ``data()``
+does constant work per cell and a filter is one numpy expression, not a proxy model walking a
+million rows. The model never changes the data: an edit of a parsed cell is turned into the
+``hand_set_requested`` signal, and the window records it as a fix step.
+
+Signals:
+    hand_set_requested(int, str): row position in the sheet, text the user typed.
+    rows_changed(): the filter or the data changed (the row count may differ).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from enum import Enum
+
+import numpy as np
+import pandas as pd
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt, Signal
+from PySide6.QtGui import QColor
+
+from ..core.clean import NAIVE, CellState, ParsedColumn
+from ..core.table import CellKind, RawColumn
+from .look import state_look
+
+__all__ = ["CellsModel", "CellsSource", "Column", "RowFilter", "format_value"]
+
+_Index = QModelIndex | QPersistentModelIndex
+
+
+class Column(Enum):
+    """The columns of the cells table, in order."""
+
+    ROW = "Row"
+    KEY = "Key"
+    RAW = "As written"
+    READS = "Reads as"
+    STATE = "State"
+    PATTERN = "Pattern"
+    NOTE = "Note"
+
+
+COLUMNS: tuple[Column, ...] = tuple(Column)
+
+
+@dataclass(frozen=True)
+class RowFilter:
+    """Which rows to show. ``mode`` is "all", "problems", "pattern" or "range".
+
+    ``pattern`` is an index into ``ParsedColumn.patterns``; ``lo``/``hi`` bound the parsed value
+    (``lo`` included, ``hi`` excluded); ``find`` keeps rows whose raw text or ISO date contains it
+    (case-insensitive); ``problems_first`` puts not-read and unclear cells on top.
+    """
+
+    mode: str = "all"
+    pattern: int | None = None
+    lo: np.datetime64 | None = None
+    hi: np.datetime64 | None = None
+    find: str = ""
+    problems_first: bool = False
+
+    def describe(self) -> str:
+        """Short words for the filter, shown above the table."""
+        parts = {
+            "all": "all cells",
+            "problems": "cells needing a look",
+            "pattern": "one pattern group",
+            "range": f"dates from {self.lo} to before {self.hi}",
+        }
+        text = parts.get(self.mode, self.mode)
+        if self.find:
+            text += f', containing "{self.find}"'
+        if self.problems_first:
+            text += ", problems first"
+        return text
+
+
+@dataclass(frozen=True, eq=False)
+class CellsSource:
+    """What the model shows: a raw column, its parsed twin (or None), row numbers and keys."""
+
+    raw: RawColumn
+    parsed: ParsedColumn | None
+    source_rows: np.ndarray
+    keys: np.ndarray | None = None  # object array of key values, one per row
+    key_name: str | None = None
+
+
+def format_value(value: np.datetime64, has_time: bool, offset_min: int, date_only: bool) -> str:
+    """ISO 8601 text of one parsed value: date, or date-time with an offset when one was written."""
+    if np.isnat(value):
+        return ""
+    if date_only or not has_time:
+        return str(value.astype("datetime64[D]"))
+    us = int(value.astype("datetime64[us]").astype(np.int64) % 1_000_000)
+    text = np.datetime_as_string(value, unit="us" if us else "s")
+    if offset_min != NAIVE:
+        sign = "+" if offset_min >= 0 else "-"
+        h, m = divmod(abs(int(offset_min)), 60)
+        text += "Z" if offset_min == 0 else f"{sign}{h:02d}:{m:02d}"
+    return text
+
+
+def _raw_text(value: object, kind: int) -> str:
+    if kind == CellKind.EMPTY or value is None:
+        return ""
+    if isinstance(value, float) and value.is_integer():
+        return str(int(value))
+    if hasattr(value, "isoformat"):
+        return value.isoformat()  # type: ignore[no-any-return]
+    return str(value)
+
+
+class CellsModel(QAbstractTableModel):
+    """Rows of one column through an index array; see the module docstring for the signals."""
+
+    hand_set_requested = Signal(int, str)
+    rows_changed = Signal()
+
+    def __init__(self, parent: object | None = None) -> None:
+        super().__init__(parent)  # type: ignore[arg-type]
+        self._source: CellsSource | None = None
+        self._filter = RowFilter()
+        self._rows = np.zeros(0, dtype=np.int64)
+        self._columns: tuple[Column, ...] = COLUMNS
+        self._find_text: np.ndarray | None = None  # lower-case raw text, built on first find
+
+    # -- what is shown ---------------------------------------------------------------------
+    @property
+    def source(self) -> CellsSource | None:
+        return self._source
+
+    @property
+    def row_filter(self) -> RowFilter:
+        return self._filter
+
+    @property
+    def rows(self) -> np.ndarray:
+        """Sheet row positions shown, in display order (read-only view)."""
+        view = self._rows.view()
+        view.flags.writeable = False
+        return view
+
+    def columns(self) -> tuple[Column, ...]:
+        return self._columns
+
+    def set_source(self, source: CellsSource | None, row_filter: RowFilter | None = None) -> None:
+        """Show another column (or the same column after a fix)."""
+        self.beginResetModel()
+        if source is None or self._source is None or source.raw is not self._source.raw:
+            self._find_text = None
+        self._source = source
+        if source is None:
+            self._columns = COLUMNS
+        else:
+            cols = list(COLUMNS)
+            if source.keys is None:
+                cols.remove(Column.KEY)
+            self._columns = tuple(cols)
+        if row_filter is not None:
+            self._filter = row_filter
+        self._rows = self._select()
+        self.endResetModel()
+        self.rows_changed.emit()
+
+    def set_filter(self, row_filter: RowFilter) -> None:
+        self.beginResetModel()
+        self._filter = row_filter
+        self._rows = self._select()
+        self.endResetModel()
+        self.rows_changed.emit()
+
+    def _select(self) -> np.ndarray:
+        src, f = self._source, self._filter
+        if src is None:
+            return np.zeros(0, dtype=np.int64)
+        n = len(src.raw)
+        p = src.parsed
+        if f.mode == "problems" and p is not None:
+            mask = p.problems()
+        elif f.mode == "pattern" and p is not None and f.pattern is not None:
+            mask = p.pattern == f.pattern
+        elif f.mode == "range" and p is not None:
+            mask = ~np.isnat(p.value)
+            if f.lo is not None:
+                mask &= p.value >= f.lo
+            if f.hi is not None:
+                mask &= p.value < f.hi
+        else:
+            mask = None
+        if f.find:
+            hit = self._find_mask(f.find)
+            mask = hit if mask is None else mask & hit
+        rows = np.arange(n, dtype=np.int64) if mask is None else np.flatnonzero(mask)
+        if f.problems_first and p is not None and len(rows):
+            rows = rows[np.argsort(~p.problems()[rows], kind="stable")]
+        return rows.astype(np.int64)
+
+    def _find_mask(self, needle: str) -> np.ndarray:
+        assert self._source is not None
+        if self._find_text is None:
+            self._find_text = self._source.raw.text().fillna("").str.lower().to_numpy(dtype=object)
+        text = pd.Series(self._find_text, dtype=object)
+        hit = text.str.contains(needle.lower(), regex=False).to_numpy(dtype=bool)
+        p = self._source.parsed
+        if p is not None:
+            iso = pd.Series(np.datetime_as_string(p.value, unit="D"), dtype=object)
+            in_iso = iso.str.contains(needle.lower(), regex=False).to_numpy(dtype=bool)
+            hit = hit | (in_iso & ~np.isnat(p.value))
+        return hit
+
+    # -- Qt model interface ----------------------------------------------------------------
+    def rowCount(self, parent: _Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() else len(self._rows)
+
+    def columnCount(self, parent: _Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() else len(self._columns)
+
+    def headerData(
+        self, section: int, orientation: Qt.Orientation, role: int = Qt.ItemDataRole.DisplayRole
+    ) -> object:
+        if role != Qt.ItemDataRole.DisplayRole:
+            return None
+        if orientation == Qt.Orientation.Horizontal:
+            if 0 <= section < len(self._columns):
+                col = self._columns[section]
+                if col is Column.KEY and self._source is not None and self._source.key_name:
+                    return f"Key ({self._source.key_name})"
+                return col.value
+            return None
+        return None
+
+    def flags(self, index: _Index) -> Qt.ItemFlag:
+        if not index.isValid():
+            return Qt.ItemFlag.NoItemFlags
+        base = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
+        if (
+            self._columns[index.column()] is Column.READS
+            and self._source is not None
+            and self._source.parsed is not None
+        ):
+            base |= Qt.ItemFlag.ItemIsEditable
+        return base
+
+    def data(self, index: _Index, role: int = Qt.ItemDataRole.DisplayRole) -> object:
+        if not index.isValid() or self._source is None:
+            return None
+        if not (0 <= index.row() < len(self._rows) and 0 <= index.column() < len(self._columns)):
+            return None
+        r = int(self._rows[index.row()])
+        col = self._columns[index.column()]
+        src = self._source
+        p = src.parsed
+        if role == Qt.ItemDataRole.UserRole:
+            return r
+        if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.EditRole):
+            return self._text(col, r, src, p)
+        if role == Qt.ItemDataRole.ToolTipRole:
+            if col is Column.STATE and p is not None:
+                return state_look(p.state[r]).hint
+            if col is Column.NOTE and p is not None and p.reason[r]:
+                return str(p.reason[r])
+            if col is Column.READS and p is not None:
+                return "Double-click to set this cell by hand (recorded in the fix log)."
+            return None
+        if role == Qt.ItemDataRole.ForegroundRole and col is Column.STATE and p is not None:
+            return QColor(state_look(p.state[r]).colour)
+        if role == Qt.ItemDataRole.AccessibleTextRole and col is Column.STATE and p is not None:
+            return state_look(p.state[r]).word
+        return None
+
+    def _text(self, col: Column, r: int, src: CellsSource, p: ParsedColumn | None) -> str:
+        if col is Column.ROW:
+            return str(int(src.source_rows[r]))
+        if col is Column.KEY:
+            return "" if src.keys is None or src.keys[r] is None else str(src.keys[r])
+        if col is Column.RAW:
+            return _raw_text(src.raw.values[r], int(src.raw.kinds[r]))
+        if p is None:
+            return ""
+        if col is Column.READS:
+            return format_value(p.value[r], bool(p.has_time[r]), int(p.offset_min[r]), p.date_only)
+        if col is Column.STATE:
+            return state_look(p.state[r]).label
+        if col is Column.PATTERN:
+            i = int(p.pattern[r])
+            if p.state[r] == CellState.MANUAL:
+                return "by hand"
+            return p.patterns[i] if 0 <= i < len(p.patterns) else ""
+        if col is Column.NOTE:
+            reason = p.reason[r]
+            return "" if reason is None else str(reason)
+        return ""
+
+    def setData(self, index: _Index, value: object, role: int = Qt.ItemDataRole.EditRole) -> bool:
+        """An edit of a parsed cell becomes a request for a recorded step; nothing changes here."""
+        if (
+            role != Qt.ItemDataRole.EditRole
+            or not index.isValid()
+            or self._columns[index.column()] is not Column.READS
+            or self._source is None
+            or self._source.parsed is None
+        ):
+            return False
+        text = str(value).strip()
+        r = int(self._rows[index.row()])
+        current = self._text(Column.READS, r, self._source, self._source.parsed)
+        if text == current:
+            return False
+        self.hand_set_requested.emit(r, text)
+        return True
+
+    def column_of(self, col: Column) -> int:
+        """Section number of a column, or -1 when it is not shown."""
+        return self._columns.index(col) if col in self._columns else -1

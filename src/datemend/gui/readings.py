@@ -1,0 +1,220 @@
+"""The Readings panel: the ranked ways to read a column, each with its evidence, one click to use.
+
+The panel shows what the core's scan says (a ColumnReport); it decides nothing. The choices the
+data cannot make (day/month order, two-digit years, 1900/1904, zone) are explicit controls whose
+values are laid over the chosen suggestion's spec when the user presses "Use this reading".
+
+Signals:
+    use_requested(object): a ParseSpec to record as the column's reading.
+    blank_requested(object): a tuple of tokens to record as "treat as blank".
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import html
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QComboBox,
+    QFormLayout,
+    QFrame,
+    QHBoxLayout,
+    QLabel,
+    QLineEdit,
+    QPushButton,
+    QScrollArea,
+    QSpinBox,
+    QVBoxLayout,
+    QWidget,
+)
+
+from ..core.report import ColumnReport, Suggestion
+from ..core.spec import ParseSpec
+from .look import OKABE_ITO
+
+__all__ = ["ReadingsPanel", "suggestion_html"]
+
+_DECISION_WORDS = {
+    "evidence": "decided by the data",
+    "preference": "your stated preference",
+    "default": "a default",
+    "undecided": "not decided — cells stay unclear",
+}
+
+
+def _e(text: object) -> str:
+    return html.escape(str(text))
+
+
+def suggestion_html(rank: int, s: Suggestion) -> str:
+    """The card text of one suggestion: coverage, mix, examples, evidence, warnings, failures."""
+    pct = f"{100 * s.coverage:.1f}%"
+    out = [
+        f"<b>{rank}. {_e(s.label)}</b><br>",
+        f"reads {s.parsed:,} of {s.total:,} cells ({pct})",
+    ]
+    if s.failed:
+        out.append(
+            f" · <span style='color:{OKABE_ITO['vermillion']}'>✗ {s.failed:,} not read</span>"
+        )
+    if s.ambiguous:
+        out.append(f" · <span style='color:{OKABE_ITO['orange']}'>? {s.ambiguous:,} unclear</span>")
+    if s.examples:
+        ex = ", ".join(f"{_e(r)} → {_e(v)}" for r, v in s.examples[:4])
+        out.append(f"<br><i>for example</i> {ex}")
+    for line in s.evidence[:5]:
+        out.append(f"<br>• {_e(line)}")
+    for line in s.warnings[:4]:
+        out.append(f"<br><span style='color:{OKABE_ITO['vermillion']}'>⚠ {_e(line)}</span>")
+    if s.decisions:
+        words = "; ".join(
+            f"{_e(k)}: {_DECISION_WORDS.get(v, _e(v))}" for k, v in s.decisions.items()
+        )
+        out.append(f"<br><small>{words}</small>")
+    if s.disagreements:
+        dis = ", ".join(f"{_e(r)}: {_e(a)} here, {_e(b)} next" for r, a, b in s.disagreements[:3])
+        out.append(f"<br><small>differs from the next reading on {dis}</small>")
+    if s.failures:
+        fails = "; ".join(
+            f"row {f.source_row} “{_e(f.raw)}” — {_e(f.text)}" for f in s.failures[:3]
+        )
+        out.append(f"<br><small>not read: {fails}</small>")
+    return "".join(out)
+
+
+class _Card(QFrame):
+    def __init__(self, rank: int, s: Suggestion, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.suggestion = s
+        self.setFrameShape(QFrame.Shape.StyledPanel)
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(6, 4, 6, 4)
+        self.text = QLabel(suggestion_html(rank, s))
+        self.text.setWordWrap(True)
+        self.text.setTextFormat(Qt.TextFormat.RichText)
+        self.use = QPushButton("Use this reading")
+        self.use.setAccessibleName(f"Use reading {rank}: {s.label}")
+        lay.addWidget(self.text)
+        row = QHBoxLayout()
+        row.addStretch(1)
+        row.addWidget(self.use)
+        lay.addLayout(row)
+
+
+class ReadingsPanel(QWidget):
+    """Suggestions for the chosen column; see the module docstring for the signals."""
+
+    use_requested = Signal(object)
+    blank_requested = Signal(object)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("readings")
+        self.report: ColumnReport | None = None
+        self.cards: list[_Card] = []
+        self.summary = QLabel("Pick a column to see the ways it can be read.")
+        self.summary.setWordWrap(True)
+
+        self.day_order = QComboBox()
+        self.day_order.addItem("as the reading says", "keep")
+        self.day_order.addItem("day first (3/4 is 3 April)", "dmy")
+        self.day_order.addItem("month first (3/4 is 4 March)", "mdy")
+        self.day_order.addItem("leave undecided (cells stay unclear)", None)
+        self.century = QComboBox()
+        self.century.addItem("as the reading says", "keep")
+        self.century.addItem("69–99 → 1900s, 00–68 → 2000s (POSIX)", "posix")
+        self.century.addItem("never after the year below (past events)", "past")
+        self.pivot = QSpinBox()
+        self.pivot.setRange(1000, 9999)
+        self.pivot.setValue(2026)
+        self.pivot.setToolTip(
+            "Two-digit years are placed in the latest century not after this year."
+        )
+        self.date_system = QComboBox()
+        self.date_system.addItem("as the reading says", "keep")
+        self.date_system.addItem("1900 date system", 1900)
+        self.date_system.addItem("1904 date system", 1904)
+        self.zone = QLineEdit()
+        self.zone.setPlaceholderText("keep offsets as written")
+        self.zone.setToolTip(
+            '"UTC" or an IANA zone name such as Europe/Paris; empty keeps offsets.'
+        )
+
+        choices = QFormLayout()
+        choices.addRow("Day and month:", self.day_order)
+        choices.addRow("Two-digit years:", self.century)
+        choices.addRow("  not after year:", self.pivot)
+        choices.addRow("Serial numbers:", self.date_system)
+        choices.addRow("Zone:", self.zone)
+
+        self.blank_button = QPushButton()
+        self.blank_button.setVisible(False)
+        self.blank_button.clicked.connect(self._blank)
+
+        self._cards_box = QWidget()
+        self._cards_lay = QVBoxLayout(self._cards_box)
+        self._cards_lay.setContentsMargins(0, 0, 0, 0)
+        self._cards_lay.addStretch(1)
+        scroll = QScrollArea()
+        scroll.setWidgetResizable(True)
+        scroll.setWidget(self._cards_box)
+        scroll.setFrameShape(QFrame.Shape.NoFrame)
+
+        lay = QVBoxLayout(self)
+        title = QLabel("<b>Readings</b> — ways to read this column")
+        lay.addWidget(title)
+        lay.addWidget(self.summary)
+        lay.addLayout(choices)
+        lay.addWidget(self.blank_button)
+        lay.addWidget(scroll, 1)
+
+    def set_report(self, report: ColumnReport | None) -> None:
+        self.report = report
+        for card in self.cards:
+            self._cards_lay.removeWidget(card)
+            card.deleteLater()
+        self.cards = []
+        if report is None:
+            self.summary.setText("Pick a column to see the ways it can be read.")
+            self.blank_button.setVisible(False)
+            return
+        like = f"{100 * report.likeness:.0f}%"
+        self.summary.setText(
+            report.summary
+            or f"{report.column}: looks {like} like dates; {report.blank:,} empty cells."
+        )
+        if report.placeholders:
+            toks = ", ".join(f"“{t}” ({n})" for t, n in report.placeholders)
+            self.blank_button.setText(f"Treat as blank: {toks}")
+            self.blank_button.setToolTip("Records one step that turns these tokens to blank.")
+            self.blank_button.setVisible(True)
+        else:
+            self.blank_button.setVisible(False)
+        for i, s in enumerate(report.suggestions, start=1):
+            card = _Card(i, s, self._cards_box)
+            card.use.clicked.connect(lambda _=False, s=s: self._use(s))
+            self._cards_lay.insertWidget(len(self.cards), card)
+            self.cards.append(card)
+
+    def spec_for(self, s: Suggestion) -> ParseSpec:
+        """The suggestion's spec with the panel's explicit choices laid over it."""
+        changes: dict[str, object] = {}
+        if (v := self.day_order.currentData()) != "keep":
+            changes["day_order"] = v
+        if (v := self.century.currentData()) != "keep":
+            changes["century"] = v
+            changes["pivot_year"] = self.pivot.value() if v == "past" else None
+        if (v := self.date_system.currentData()) != "keep":
+            changes["date_system"] = v
+        zone = self.zone.text().strip()
+        if zone:
+            changes["zone"] = zone
+        return dataclasses.replace(s.spec, **changes) if changes else s.spec
+
+    def _use(self, s: Suggestion) -> None:
+        self.use_requested.emit(self.spec_for(s))
+
+    def _blank(self) -> None:
+        if self.report is not None and self.report.placeholders:
+            self.blank_requested.emit(tuple(t for t, _ in self.report.placeholders))

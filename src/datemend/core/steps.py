@@ -3,17 +3,49 @@
 A step's fields are its parameters and its JSON form; ``apply`` never infers anything (that
 happened before the step was made), so replaying a log gives the same result on a whole file or
 on any partition of it. Register new step kinds with ``@register_step``.
+
+The base class turns dataclass fields into JSON and back, and builds the JSON Schema, from the
+fields' type hints (str, int, float, bool, ``X | None``, ``tuple[X, ...]``, ``dict[str, X]``,
+``Literal[...]``, ``datetime.date``, ``ParseSpec``). A field may add schema keywords with
+``field(metadata={"schema": {...}})``. So a new step kind is a dataclass, ``kind``, ``apply`` and
+``describe``; nothing else is needed unless its fields are unusual.
+
+The core kinds are in this module: ``read-dates``, ``blank-tokens``, ``set-cell``, ``date-part``
+and ``rename-column``.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as _dt
+import enum
+import types
+import typing
 from dataclasses import dataclass, field
-from typing import Any, ClassVar, TypeVar
+from typing import Any, ClassVar, Literal, TypeVar
 
-from .clean import CleanTable
+import numpy as np
+import pandas as pd
 
-__all__ = ["STEP_TYPES", "ApplyContext", "Step", "register_step", "step_from_dict"]
+from .clean import NAIVE, CellState, CleanTable
+from .parse import parse_column
+from .spec import CENTURY_RULES, ParseSpec
+
+__all__ = [
+    "STEP_TYPES",
+    "ApplyContext",
+    "BlankTokens",
+    "DatePart",
+    "FieldValueError",
+    "ReadDates",
+    "RenameColumn",
+    "SetCell",
+    "Step",
+    "dataclass_schema",
+    "manual_value",
+    "register_step",
+    "step_from_dict",
+]
 
 
 @dataclass(frozen=True)
@@ -25,8 +57,170 @@ class ApplyContext:
     key_column: str | None = None
 
 
+class FieldValueError(ValueError):
+    """A step parameter that its type allows but its meaning does not; names the field."""
+
+    def __init__(self, field_name: str, message: str) -> None:
+        super().__init__(message)
+        self.field = field_name
+
+
+# ----------------------------------------------------------------------- JSON <-> fields
+
+
+def _to_json(value: Any) -> Any:
+    """A field value as JSON data (ParseSpec, dates, enums, tuples converted)."""
+    if value is None or isinstance(value, bool | int | float | str):
+        return value
+    if isinstance(value, ParseSpec):
+        return value.to_dict()
+    if isinstance(value, _dt.date | _dt.datetime | _dt.time):
+        return value.isoformat()
+    if isinstance(value, enum.Enum):
+        return value.value
+    if isinstance(value, tuple | list):
+        return [_to_json(v) for v in value]
+    if isinstance(value, dict):
+        return {str(k): _to_json(v) for k, v in value.items()}
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return {f.name: _to_json(getattr(value, f.name)) for f in dataclasses.fields(value)}
+    raise TypeError(f"{type(value).__name__} has no JSON form")
+
+
+def _is_union(hint: Any) -> bool:
+    return typing.get_origin(hint) in (typing.Union, types.UnionType)
+
+
+def _from_json(value: Any, hint: Any) -> Any:
+    """JSON data back to a field value of type ``hint``."""
+    if hint is Any or hint is object:
+        return value
+    if _is_union(hint):
+        args = typing.get_args(hint)
+        if value is None and type(None) in args:
+            return None
+        for a in args:
+            if a is not type(None):
+                return _from_json(value, a)
+    origin, args = typing.get_origin(hint), typing.get_args(hint)
+    if origin is Literal:
+        return value
+    if origin is tuple:
+        if len(args) == 2 and args[1] is Ellipsis:
+            return tuple(_from_json(v, args[0]) for v in value)
+        return tuple(_from_json(v, a) for v, a in zip(value, args))
+    if origin is dict:
+        return {k: _from_json(v, args[1] if args else Any) for k, v in value.items()}
+    if hint is ParseSpec:
+        return ParseSpec.from_dict(value)
+    if hint is _dt.datetime:
+        return _dt.datetime.fromisoformat(value)
+    if hint is _dt.date:
+        return _dt.date.fromisoformat(value)
+    if isinstance(hint, type) and issubclass(hint, enum.Enum):
+        return hint(value)
+    if hint is float and isinstance(value, int):
+        return float(value)
+    return value
+
+
+_SIMPLE = {str: "string", int: "integer", float: "number", bool: "boolean"}
+
+
+def _schema_of(hint: Any) -> dict[str, Any]:
+    """JSON Schema (Draft 2020-12) of one type hint."""
+    if hint is Any or hint is object:
+        return {}
+    if hint in _SIMPLE:
+        return {"type": _SIMPLE[hint]}
+    if _is_union(hint):
+        args = [a for a in typing.get_args(hint) if a is not type(None)]
+        nullable = len(args) < len(typing.get_args(hint))
+        parts = [_schema_of(a) for a in args]
+        if len(parts) == 1 and set(parts[0]) == {"type"} and isinstance(parts[0]["type"], str):
+            return {"type": [parts[0]["type"], "null"] if nullable else parts[0]["type"]}
+        if len(parts) == 1 and set(parts[0]) == {"enum"} and nullable:
+            return {"enum": [*parts[0]["enum"], None]}
+        return {"anyOf": parts + ([{"type": "null"}] if nullable else [])}
+    origin, args = typing.get_origin(hint), typing.get_args(hint)
+    if origin is Literal:
+        return {"enum": list(args)}
+    if origin is tuple:
+        if len(args) == 2 and args[1] is Ellipsis:
+            return {"type": "array", "items": _schema_of(args[0])}
+        return {
+            "type": "array",
+            "prefixItems": [_schema_of(a) for a in args],
+            "minItems": len(args),
+            "maxItems": len(args),
+        }
+    if origin is dict:
+        return {"type": "object", "additionalProperties": _schema_of(args[1]) if args else {}}
+    if hint is ParseSpec:
+        return parse_spec_schema()
+    if hint is _dt.datetime:
+        return {"type": "string", "minLength": 10}
+    if hint is _dt.date:
+        return {"type": "string", "pattern": r"^\d{4}-\d{2}-\d{2}$"}
+    if isinstance(hint, type) and issubclass(hint, enum.Enum):
+        return {"enum": [m.value for m in hint]}
+    if isinstance(hint, type) and dataclasses.is_dataclass(hint):
+        return dataclass_schema(hint)
+    raise TypeError(f"no JSON Schema for type {hint!r}")
+
+
+def _hints(cls: type) -> dict[str, Any]:
+    return typing.get_type_hints(cls)
+
+
+def dataclass_schema(
+    cls: type, *, skip: tuple[str, ...] = (), extra: dict[str, dict[str, Any]] | None = None
+) -> dict[str, Any]:
+    """Object schema of a dataclass from its fields' hints: fields without a default are required,
+    unknown properties refused. ``extra`` merges more keywords into named properties."""
+    hints = _hints(cls)
+    props: dict[str, Any] = {}
+    required: list[str] = []
+    for f in dataclasses.fields(cls):
+        if f.name in skip or not f.init:
+            continue
+        sch = dict(_schema_of(hints[f.name]))
+        sch.update(f.metadata.get("schema", {}))
+        sch.update((extra or {}).get(f.name, {}))
+        props[f.name] = sch
+        if f.default is dataclasses.MISSING and f.default_factory is dataclasses.MISSING:
+            required.append(f.name)
+    return {
+        "type": "object",
+        "properties": props,
+        "required": required,
+        "additionalProperties": False,
+    }
+
+
+def parse_spec_schema() -> dict[str, Any]:
+    """Schema of a ParseSpec's JSON form, built from its fields (so new fields are included)."""
+    return dataclass_schema(
+        ParseSpec,
+        extra={
+            "patterns": {"items": {"type": "string", "minLength": 1}},
+            "day_order": {"enum": ["dmy", "mdy", None]},
+            "century": {"enum": list(CENTURY_RULES)},
+            "date_system": {"enum": [1900, 1904]},
+            "pivot_year": {"type": ["integer", "null"], "minimum": 1, "maximum": 9999},
+        },
+    )
+
+
+# ----------------------------------------------------------------------------- base class
+
+
 class Step:
-    """Base of every fix step. Subclasses are ``@dataclass(frozen=True)`` and set ``kind``."""
+    """Base of every fix step. Subclasses are ``@dataclass(frozen=True)`` and set ``kind``.
+
+    ``to_dict``/``from_dict``/``schema`` work from the dataclass fields; override them only for
+    fields the type hints cannot describe.
+    """
 
     kind: ClassVar[str] = ""
 
@@ -41,18 +235,36 @@ class Step:
         """Source or output column names this step needs."""
         return ()
 
+    def columns_changed(self) -> tuple[str, ...]:
+        """Source column names whose parsed values this step may change (for views)."""
+        return self.columns_read()
+
     def to_dict(self) -> dict[str, Any]:
         """JSON form: ``{"kind": self.kind, ...parameters}``; JSON values only."""
-        raise NotImplementedError
+        out: dict[str, Any] = {"kind": self.kind}
+        for f in dataclasses.fields(self):  # type: ignore[arg-type]
+            out[f.name] = _to_json(getattr(self, f.name))
+        return out
 
     @classmethod
     def schema(cls) -> dict[str, Any]:
         """JSON Schema of this step's JSON form; the fix log's schema is built from these."""
-        raise NotImplementedError
+        sch = dataclass_schema(cls)
+        sch["properties"] = {"kind": {"const": cls.kind}, **sch["properties"]}
+        sch["required"] = ["kind", *sch["required"]]
+        return sch
 
     @classmethod
     def from_dict(cls, d: dict[str, Any]) -> Step:
-        raise NotImplementedError
+        hints = _hints(cls)
+        kwargs = {}
+        for f in dataclasses.fields(cls):  # type: ignore[arg-type]
+            if f.init and f.name in d:
+                try:
+                    kwargs[f.name] = _from_json(d[f.name], hints[f.name])
+                except (ValueError, TypeError) as err:
+                    raise FieldValueError(f.name, str(err)) from None
+        return cls(**kwargs)
 
 
 S = TypeVar("S", bound=type[Step])
@@ -76,3 +288,279 @@ def step_from_dict(d: dict[str, Any]) -> Step:
     if kind not in STEP_TYPES:
         raise KeyError(kind)
     return STEP_TYPES[kind].from_dict(d)
+
+
+# ------------------------------------------------------------------------------ helpers
+
+
+def _not_read(table: CleanTable, column: str, what: str) -> CleanTable:
+    return _warn(table, f'"{column}" is not read as dates, so {what} did nothing.')
+
+
+def _warn(table: CleanTable, text: str) -> CleanTable:
+    return table if text in table.warnings else table.with_warning(text)
+
+
+def _cell_text(table: CleanTable, column: str) -> pd.Series:
+    """Each raw cell of a column as trimmed text ("" for empty)."""
+    return table.raw.column(column).text().fillna("").astype(object).str.strip()
+
+
+def manual_value(value: str) -> tuple[np.datetime64, int, bool]:
+    """An ISO 8601 date or date-time typed by hand → (wall-clock value, offset minutes or NAIVE,
+    has time). Raises ValueError naming the value if it is not one."""
+    text = value.strip()
+    try:
+        if len(text) <= 10:
+            d = _dt.date.fromisoformat(text)
+            return np.datetime64(d.isoformat(), "us"), NAIVE, False
+        dt = _dt.datetime.fromisoformat(text)
+    except ValueError:
+        raise ValueError(f'"{value}" is not an ISO 8601 date or date-time') from None
+    off = dt.utcoffset()
+    offset = NAIVE if off is None else int(off.total_seconds() // 60)
+    naive = dt.replace(tzinfo=None)
+    return np.datetime64(naive.isoformat(), "us"), offset, True
+
+
+def _spec_words(spec: ParseSpec) -> str:
+    words = []
+    if spec.day_order == "dmy":
+        words.append("day before month")
+    elif spec.day_order == "mdy":
+        words.append("month before day")
+    if spec.century == "past":
+        words.append(f"two-digit years not after {spec.pivot_year}")
+    if spec.date_system == 1904:
+        words.append("1904 date system")
+    if spec.zone:
+        words.append(f"times moved to {spec.zone}")
+    return f" ({', '.join(words)})" if words else ""
+
+
+# ---------------------------------------------------------------------------- core kinds
+
+
+@register_step
+@dataclass(frozen=True)
+class ReadDates(Step):
+    """Read a column as dates with a ParseSpec (usually an accepted suggestion)."""
+
+    kind: ClassVar[str] = "read-dates"
+    column: str = field(metadata={"schema": {"minLength": 1}})
+    spec: ParseSpec
+    label: str = ""  # the suggestion's label, for the sentence
+
+    def columns_read(self) -> tuple[str, ...]:
+        return (self.column,)
+
+    def describe(self) -> str:
+        how = self.label or " · ".join(self.spec.patterns) or "no patterns"
+        return f'Read "{self.column}" as dates: {how}{_spec_words(self.spec)}.'
+
+    def apply(self, table: CleanTable, ctx: ApplyContext) -> CleanTable:
+        if self.column not in table.raw:
+            return _warn(table, f'Column "{self.column}" is not in the file; not read as dates.')
+        col = parse_column(table.raw.column(self.column), self.spec, table.raw.facts)
+        return table.with_parsed(col)
+
+
+@register_step
+@dataclass(frozen=True)
+class BlankTokens(Step):
+    """Treat the given tokens (trimmed, any case) as blank cells; hand-set cells stay."""
+
+    kind: ClassVar[str] = "blank-tokens"
+    tokens: tuple[str, ...] = field(metadata={"schema": {"minItems": 1}})
+    columns: tuple[str, ...] = ()  # () means every column read as dates
+
+    def columns_read(self) -> tuple[str, ...]:
+        return self.columns
+
+    def describe(self) -> str:
+        toks = ", ".join(f'"{t}"' for t in self.tokens)
+        where = ", ".join(f'"{c}"' for c in self.columns) or "every date column"
+        return f"Treat {toks} as blank in {where}."
+
+    def apply(self, table: CleanTable, ctx: ApplyContext) -> CleanTable:
+        wanted = {t.strip().casefold() for t in self.tokens}
+        targets = self.columns or tuple(table.parsed)
+        for name in targets:
+            pc = table.parsed.get(name)
+            if pc is None:
+                table = _not_read(table, name, "treating tokens as blank")
+                continue
+            codes, uniques = pd.factorize(_cell_text(table, name))
+            hit_u = np.array([u.casefold() in wanted for u in uniques], dtype=bool)
+            hit = np.zeros(len(pc), dtype=bool)
+            known = codes >= 0
+            hit[known] = hit_u[codes[known]]
+            hit &= pc.state != CellState.MANUAL
+            if not hit.any():
+                continue
+            reason = pc.reason.copy()
+            reason[hit] = "treated as blank (a placeholder token)"
+            table = table.with_parsed(
+                pc.evolve(
+                    value=np.where(hit, np.datetime64("NaT", "us"), pc.value),
+                    offset_min=np.where(hit, NAIVE, pc.offset_min).astype(np.int32),
+                    has_time=pc.has_time & ~hit,
+                    state=np.where(hit, CellState.BLANK, pc.state).astype(np.int8),
+                    pattern=np.where(hit, -1, pc.pattern).astype(np.int16),
+                    reason=reason,
+                )
+            )
+        return table
+
+
+@register_step
+@dataclass(frozen=True)
+class SetCell(Step):
+    """Set one cell by hand. The row is found by its value in ``key_column`` (or, when that is
+    None, by its 1-based source row number). With ``raw`` recorded, the cell is set only while
+    its raw text is still that, so a corrected source value is never overwritten silently."""
+
+    kind: ClassVar[str] = "set-cell"
+    column: str = field(metadata={"schema": {"minLength": 1}})
+    key: str
+    value: str | None  # ISO 8601 date or date-time; None sets the cell blank by hand
+    key_column: str | None = None
+    raw: str | None = None
+    note: str = ""
+
+    def __post_init__(self) -> None:
+        if self.value is not None:
+            try:
+                manual_value(self.value)
+            except ValueError as err:
+                raise FieldValueError("value", str(err)) from None
+        if self.key_column is None and not self.key.isdigit():
+            raise FieldValueError("key", f'a row number key must be digits, not "{self.key}"')
+
+    def columns_read(self) -> tuple[str, ...]:
+        cols = (self.column,)
+        return cols if self.key_column is None else (*cols, self.key_column)
+
+    def columns_changed(self) -> tuple[str, ...]:
+        return (self.column,)
+
+    def where(self) -> str:
+        if self.key_column is None:
+            return f"row {self.key}"
+        return f'the row whose "{self.key_column}" is "{self.key}"'
+
+    def describe(self) -> str:
+        to = "blank" if self.value is None else self.value
+        tail = " (found by row number)" if self.key_column is None else ""
+        return f'Set "{self.column}" in {self.where()} to {to} by hand{tail}.'
+
+    def apply(self, table: CleanTable, ctx: ApplyContext) -> CleanTable:
+        from .rowkey import find_rows
+
+        pc = table.parsed.get(self.column)
+        if pc is None:
+            return _not_read(table, self.column, f"setting {self.where()} by hand")
+        if self.key_column is None:
+            table = _warn(
+                table,
+                f'Hand-set cells in "{self.column}" are found by row number (no key column): '
+                "they land on other rows if rows are added, removed or sorted.",
+            )
+        elif self.key_column not in table.raw:
+            return _warn(
+                table,
+                f'Key column "{self.key_column}" is not in the file; '
+                f'the hand-set "{self.column}" of "{self.key}" was not applied.',
+            )
+        rows = find_rows(table.raw, self.key_column, self.key)
+        if len(rows) != 1:
+            why = "is gone" if len(rows) == 0 else f"matches {len(rows)} rows"
+            return _warn(
+                table,
+                f'The hand-set "{self.column}" of {self.where()} was not applied: that key {why}.',
+            )
+        r = int(rows[0])
+        if self.raw is not None:
+            now = _cell_text(table, self.column).iat[r]
+            if now != self.raw.strip():
+                return _warn(
+                    table,
+                    f'The hand-set "{self.column}" of {self.where()} was not applied: its raw '
+                    f'value changed from "{self.raw}" to "{now}".',
+                )
+        arrays = {
+            n: getattr(pc, n).copy()
+            for n in ("value", "offset_min", "has_time", "state", "pattern", "reason")
+        }
+        if self.value is None:
+            arrays["value"][r] = np.datetime64("NaT", "us")
+            arrays["offset_min"][r], arrays["has_time"][r] = NAIVE, False
+            arrays["state"][r] = CellState.BLANK
+        else:
+            v, off, has_time = manual_value(self.value)
+            arrays["value"][r], arrays["offset_min"][r], arrays["has_time"][r] = v, off, has_time
+            arrays["state"][r] = CellState.MANUAL
+        arrays["pattern"][r] = -1
+        arrays["reason"][r] = self.note or "set by hand"
+        return table.with_parsed(pc.evolve(**arrays))
+
+
+@register_step
+@dataclass(frozen=True)
+class DatePart(Step):
+    """Keep only the calendar date of each value, as written (any offset is dropped)."""
+
+    kind: ClassVar[str] = "date-part"
+    column: str = field(metadata={"schema": {"minLength": 1}})
+
+    def columns_read(self) -> tuple[str, ...]:
+        return (self.column,)
+
+    def describe(self) -> str:
+        return f'Keep only the date of "{self.column}" (times and offsets dropped).'
+
+    def apply(self, table: CleanTable, ctx: ApplyContext) -> CleanTable:
+        pc = table.parsed.get(self.column)
+        if pc is None:
+            return _not_read(table, self.column, "keeping the date part")
+        return table.with_parsed(
+            pc.evolve(
+                value=pc.value.astype("datetime64[D]").astype("datetime64[us]"),
+                offset_min=np.full(len(pc), NAIVE, dtype=np.int32),
+                has_time=np.zeros(len(pc), dtype=bool),
+                date_only=True,
+            )
+        )
+
+
+@register_step
+@dataclass(frozen=True)
+class RenameColumn(Step):
+    """Give a parsed column another name in the output (the raw column keeps its own)."""
+
+    kind: ClassVar[str] = "rename-column"
+    column: str = field(metadata={"schema": {"minLength": 1}})
+    name: str = field(metadata={"schema": {"minLength": 1, "pattern": r"\S"}})
+
+    def columns_read(self) -> tuple[str, ...]:
+        return (self.column,)
+
+    def describe(self) -> str:
+        return f'Name the parsed "{self.column}" "{self.name}" in the output.'
+
+    def apply(self, table: CleanTable, ctx: ApplyContext) -> CleanTable:
+        pc = table.parsed.get(self.column)
+        if pc is None:
+            return _not_read(table, self.column, f'renaming it "{self.name}"')
+        taken = set(table.derived)
+        for other in table.raw.names:
+            if other != self.column:
+                opc = table.parsed.get(other)
+                taken.add(other if opc is None else opc.output_name)
+        if self.name in taken:
+            return _warn(
+                table,
+                f'"{self.column}" was not renamed: "{self.name}" is already a '
+                "column of the output.",
+            )
+        return table.with_parsed(pc.evolve(name=self.name))

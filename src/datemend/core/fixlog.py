@@ -1,0 +1,667 @@
+"""FixLog: the ordered fix steps of one kind of file, saved as JSON and replayed next month.
+
+The JSON file holds data only (it is read with ``json.loads``, never unpickled or evaluated),
+says what it is (``"format": "datemend-fixlog"``, an integer ``version``), and carries facts
+about the file it was made on — for the drift report, never as a lock. Loading refuses files
+over ``MAX_BYTES`` or nested deeper than ``MAX_DEPTH``, and checks every step against its
+registered JSON Schema (Draft 2020-12); each problem is a ``FixLogError`` whose one sentence
+names the file, the step number (1-based) and the field.
+
+Example::
+
+    {
+      "format": "datemend-fixlog",
+      "version": 1,
+      "datemend_version": "0.1.0",
+      "created": "2026-11-02T09:15:00Z",
+      "source": {"file_name": "rowing_club_2026-10.xlsx", "sheet": "Members",
+                 "columns": ["Member no", "Name", "Born", "Joined"], "sha256": "9f2c…",
+                 "rows": 180, "ranges": {"Born": ["1941-05-02T00:00:00", "2012-08-30T00:00:00"]}},
+      "key_column": "Member no",
+      "notes": [],
+      "steps": [
+        {"enabled": true, "step": {"kind": "read-dates", "column": "Born",
+                                   "spec": {"patterns": ["dmy-slash"], "day_order": "dmy", …},
+                                   "label": "D/M/YYYY 100%"}},
+        {"enabled": true, "step": {"kind": "blank-tokens", "tokens": ["n/a"], "columns": []}}
+      ]
+    }
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import datetime as _dt
+import json
+import os
+import re
+import tempfile
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Literal
+
+import jsonschema
+import numpy as np
+import pandas as pd
+
+from .._version import __version__
+from .clean import CellState, CleanTable
+from .progress import Progress
+from .report import ColumnReport
+from .steps import STEP_TYPES, ApplyContext, FieldValueError, Step, dataclass_schema
+from .table import DatemendError, RawTable
+
+__all__ = [
+    "FORMAT",
+    "MAX_BYTES",
+    "MAX_DEPTH",
+    "VERSION",
+    "FixLog",
+    "FixLogError",
+    "LogEntry",
+    "LogSource",
+    "StepError",
+    "apply_entry",
+    "apply_log",
+    "apply_to_dataframe",
+    "auto_fix",
+    "fixlog_schema",
+    "make_auto_log",
+    "parsed_ranges",
+]
+
+FORMAT = "datemend-fixlog"
+VERSION = 1
+#: Largest fix log read (bytes). A log of ten thousand hand-set cells is about 2 MB.
+MAX_BYTES = 5 * 1024 * 1024
+#: Deepest nesting of JSON arrays and objects read; real logs nest about 5 deep.
+MAX_DEPTH = 64
+
+
+class FixLogError(DatemendError):
+    """A fix log cannot be read. ``step`` is 1-based (None for the envelope); ``field`` is the
+    dotted field path inside the step or envelope, if known."""
+
+    def __init__(
+        self,
+        message: str,
+        path: str | None = None,
+        step: int | None = None,
+        field: str | None = None,
+    ) -> None:
+        super().__init__(message)
+        self.path = path
+        self.step = step
+        self.field = field
+
+
+class StepError(DatemendError):
+    """A step could not be applied; the message names the step number."""
+
+
+@dataclass(frozen=True)
+class LogEntry:
+    """One step of a log and whether it runs."""
+
+    step: Step
+    enabled: bool = True
+
+
+@dataclass(frozen=True)
+class LogSource:
+    """Facts about the file a log was made on (information for the drift report, not a lock).
+
+    ``ranges``: for each parsed source column, the earliest and latest date read or set by hand
+    (ISO 8601), so replay can point at values far outside them.
+    """
+
+    file_name: str | None = None
+    sheet: str | None = None
+    columns: tuple[str, ...] = ()
+    sha256: str | None = None
+    rows: int | None = None
+    date_system: int | None = None
+    ranges: dict[str, tuple[str, str]] = field(default_factory=dict)
+
+    def to_dict(self) -> dict[str, Any]:
+        d = dataclasses.asdict(self)
+        d["columns"] = list(self.columns)
+        d["ranges"] = {k: list(v) for k, v in self.ranges.items()}
+        return d
+
+    @classmethod
+    def from_dict(cls, d: dict[str, Any]) -> LogSource:
+        d = dict(d)
+        d["columns"] = tuple(d.get("columns", ()))
+        d["ranges"] = {k: (v[0], v[1]) for k, v in d.get("ranges", {}).items()}
+        return cls(**d)
+
+    @classmethod
+    def of(cls, clean: CleanTable) -> LogSource:
+        raw = clean.raw
+        return cls(
+            file_name=raw.facts.file_name,
+            sheet=raw.facts.sheet,
+            columns=tuple(raw.names),
+            sha256=raw.facts.sha256,
+            rows=raw.n_rows,
+            date_system=raw.facts.date_system,
+            ranges=parsed_ranges(clean),
+        )
+
+
+def parsed_ranges(clean: CleanTable) -> dict[str, tuple[str, str]]:
+    """Earliest and latest value (parsed or set by hand) of each parsed column, ISO 8601."""
+    out: dict[str, tuple[str, str]] = {}
+    for name, pc in clean.parsed.items():
+        ok = ((pc.state == CellState.PARSED) | (pc.state == CellState.MANUAL)) & ~np.isnat(pc.value)
+        if ok.any():
+            vals = pc.value[ok]
+            lo, hi = np.datetime_as_string(np.array([vals.min(), vals.max()]), unit="s")
+            out[name] = (str(lo), str(hi))
+    return out
+
+
+def _now() -> str:
+    return _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
+
+
+@dataclass(frozen=True)
+class FixLog:
+    """Ordered fix steps plus facts about the file they were made on. Immutable: every edit
+    returns a new log, so an undo history is a list of logs."""
+
+    entries: tuple[LogEntry, ...] = ()
+    source: LogSource | None = None
+    key_column: str | None = None
+    created: str = field(default_factory=_now)
+    datemend_version: str = __version__
+    notes: tuple[str, ...] = ()
+
+    # ---- reading the log
+    def __len__(self) -> int:
+        return len(self.entries)
+
+    @property
+    def steps(self) -> tuple[Step, ...]:
+        """The enabled steps, in order."""
+        return tuple(e.step for e in self.entries if e.enabled)
+
+    def blank_tokens(self, column: str) -> set[str]:
+        """Tokens (case-folded) this log treats as blank in ``column``."""
+        from .steps import BlankTokens, ReadDates
+
+        out: set[str] = set()
+        for s in self.steps:
+            if isinstance(s, ReadDates) and s.column == column:
+                out |= {t.strip().casefold() for t in s.spec.blank_tokens}
+            elif isinstance(s, BlankTokens) and (not s.columns or column in s.columns):
+                out |= {t.strip().casefold() for t in s.tokens}
+        return out
+
+    # ---- edits (each returns a new log)
+    def evolve(self, **changes: Any) -> FixLog:
+        return dataclasses.replace(self, **changes)
+
+    def _with(self, entries: Iterable[LogEntry]) -> FixLog:
+        return self.evolve(entries=tuple(entries))
+
+    def add(self, step: Step, index: int | None = None, *, enabled: bool = True) -> FixLog:
+        items = list(self.entries)
+        items.insert(len(items) if index is None else index, LogEntry(step, enabled))
+        return self._with(items)
+
+    def remove(self, index: int) -> FixLog:
+        items = list(self.entries)
+        del items[index]
+        return self._with(items)
+
+    def replace(self, index: int, step: Step) -> FixLog:
+        items = list(self.entries)
+        items[index] = LogEntry(step, items[index].enabled)
+        return self._with(items)
+
+    def set_enabled(self, index: int, enabled: bool) -> FixLog:
+        items = list(self.entries)
+        items[index] = LogEntry(items[index].step, enabled)
+        return self._with(items)
+
+    def move(self, src: int, dst: int) -> FixLog:
+        """Move the step at ``src`` so that it ends up at position ``dst``."""
+        items = list(self.entries)
+        item = items.pop(src)
+        items.insert(dst, item)
+        return self._with(items)
+
+    def with_source(self, clean: CleanTable) -> FixLog:
+        """The log with facts (and value ranges) taken from the table it was made on."""
+        return self.evolve(source=LogSource.of(clean))
+
+    # ---- JSON
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "format": FORMAT,
+            "version": VERSION,
+            "datemend_version": self.datemend_version,
+            "created": self.created,
+            "source": None if self.source is None else self.source.to_dict(),
+            "key_column": self.key_column,
+            "notes": list(self.notes),
+            "steps": [{"enabled": e.enabled, "step": e.step.to_dict()} for e in self.entries],
+        }
+
+    def to_json(self) -> str:
+        return json.dumps(self.to_dict(), indent=2, ensure_ascii=False) + "\n"
+
+    def save(self, path: str | Path) -> None:
+        """Write the log as UTF-8 JSON, atomically (temporary file in the folder, then moved)."""
+        path = Path(path)
+        data = self.to_json().encode("utf-8")
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+        try:
+            with os.fdopen(fd, "wb") as fh:
+                fh.write(data)
+                fh.flush()
+                os.fsync(fh.fileno())
+            os.replace(tmp, path)
+        except BaseException:
+            Path(tmp).unlink(missing_ok=True)
+            raise
+
+    @classmethod
+    def from_dict(cls, d: Any, name: str = "the fix log") -> FixLog:
+        """Validate JSON data and build the log; every problem is one FixLogError."""
+        _check_envelope(d, name)
+        entries = []
+        for i, item in enumerate(d["steps"], start=1):
+            entries.append(LogEntry(_build_step(item["step"], i, name), item.get("enabled", True)))
+        try:
+            source = None if d.get("source") is None else LogSource.from_dict(d["source"])
+        except (TypeError, ValueError) as err:
+            raise FixLogError(f'{name}: field "source" is not valid ({err}).', name) from None
+        return cls(
+            entries=tuple(entries),
+            source=source,
+            key_column=d.get("key_column"),
+            created=d.get("created", ""),
+            datemend_version=d.get("datemend_version", ""),
+            notes=tuple(d.get("notes", ())),
+        )
+
+    @classmethod
+    def loads(cls, text: str | bytes, name: str = "the fix log") -> FixLog:
+        """Read a log from JSON text; refuses oversized or too deeply nested input."""
+        if len(text) > MAX_BYTES:
+            raise FixLogError(
+                f"{name} is larger than {MAX_BYTES // (1024 * 1024)} MB, too big for a fix "
+                "log; it was not read.",
+                name,
+            )
+        if isinstance(text, bytes):
+            try:
+                text = text.decode("utf-8-sig")
+            except UnicodeDecodeError as err:
+                raise FixLogError(
+                    f"{name} is not UTF-8 text (byte {err.start}); it is not a fix log.", name
+                ) from None
+        return cls.from_dict(_parse_json(text, name), name)
+
+    @classmethod
+    def load(cls, path: str | Path) -> FixLog:
+        """Read a log file (see ``loads``); the error names the file."""
+        path = Path(path)
+        name = path.name
+        try:
+            if path.stat().st_size > MAX_BYTES:
+                raise FixLogError(
+                    f"{name} is larger than {MAX_BYTES // (1024 * 1024)} MB, too big for a fix "
+                    "log; it was not read.",
+                    str(path),
+                )
+            with path.open("rb") as fh:
+                data = fh.read(MAX_BYTES + 1)
+        except OSError as err:
+            raise FixLogError(f"{name} could not be opened ({err.strerror}).", str(path)) from None
+        try:
+            return cls.loads(data, name)
+        except FixLogError as err:
+            err.path = str(path)
+            raise
+
+
+# ------------------------------------------------------------------------------ parsing
+
+_STRING = re.compile(rb'"(?:[^"\\]|\\.)*"', re.DOTALL)
+
+
+def _max_depth(text: str) -> int:
+    """Deepest nesting of [ and { outside strings, counted without recursion (numpy)."""
+    data = _STRING.sub(b'""', text.encode("utf-8", "surrogatepass"))
+    arr = np.frombuffer(data, dtype=np.uint8)
+    step = np.isin(arr, (ord("["), ord("{"))).astype(np.int32)
+    step -= np.isin(arr, (ord("]"), ord("}"))).astype(np.int32)
+    return int(np.cumsum(step).max()) if len(step) else 0
+
+
+def _no_constant(token: str) -> Any:
+    raise ValueError(f"{token} is not a JSON number")
+
+
+def _no_duplicates(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
+    out: dict[str, Any] = {}
+    for k, v in pairs:
+        if k in out:
+            raise ValueError(f'field "{k}" appears twice in one object')
+        out[k] = v
+    return out
+
+
+def _parse_json(text: str, name: str) -> Any:
+    if not text.strip():
+        raise FixLogError(f"{name} is empty; it is not a fix log.", name)
+    if _max_depth(text) > MAX_DEPTH:
+        raise FixLogError(
+            f"{name} nests deeper than {MAX_DEPTH} levels, which no fix log does; it was not read.",
+            name,
+        )
+    try:
+        return json.loads(text, parse_constant=_no_constant, object_pairs_hook=_no_duplicates)
+    except json.JSONDecodeError as err:
+        where = f"line {err.lineno}, column {err.colno}"
+        if err.pos >= len(text.rstrip()):
+            msg = f"{name} ends before its JSON is complete ({where}); the file may be cut short."
+        else:
+            msg = f"{name} is not valid JSON at {where}: {err.msg}."
+        raise FixLogError(msg, name) from None
+    except RecursionError:
+        raise FixLogError(f"{name} nests too deeply to read; it is not a fix log.", name) from None
+    except ValueError as err:
+        raise FixLogError(f"{name} is not valid JSON data: {err}.", name) from None
+
+
+# ----------------------------------------------------------------------------- validation
+
+
+def _envelope_schema(step_schema: dict[str, Any]) -> dict[str, Any]:
+    return {
+        "$schema": "https://json-schema.org/draft/2020-12/schema",
+        "type": "object",
+        "required": ["format", "version", "steps"],
+        "properties": {
+            "format": {"const": FORMAT},
+            "version": {"type": "integer", "minimum": 1},
+            "datemend_version": {"type": "string"},
+            "created": {"type": "string"},
+            "source": {"anyOf": [dataclass_schema(LogSource), {"type": "null"}]},
+            "key_column": {"type": ["string", "null"]},
+            "notes": {"type": "array", "items": {"type": "string"}},
+            "steps": {
+                "type": "array",
+                "items": {
+                    "type": "object",
+                    "required": ["step"],
+                    "properties": {"enabled": {"type": "boolean"}, "step": step_schema},
+                    "additionalProperties": False,
+                },
+            },
+        },
+        "additionalProperties": False,
+    }
+
+
+def fixlog_schema() -> dict[str, Any]:
+    """The whole log's JSON Schema, built from every registered step kind (for documentation and
+    other tools; loading checks the same rules step by step, for clearer messages)."""
+    kinds = sorted(STEP_TYPES)
+    step = {
+        "type": "object",
+        "required": ["kind"],
+        "properties": {"kind": {"enum": kinds}},
+        "allOf": [
+            {"if": {"properties": {"kind": {"const": k}}}, "then": STEP_TYPES[k].schema()}
+            for k in kinds
+        ],
+    }
+    return _envelope_schema(step)
+
+
+_JSON_TYPES = {
+    dict: "an object",
+    list: "a list",
+    str: "text",
+    bool: "true/false",
+    int: "a whole number",
+    float: "a number",
+    type(None): "null",
+}
+_TYPE_WORDS = {
+    "object": "an object",
+    "array": "a list",
+    "string": "text",
+    "boolean": "true or false",
+    "integer": "a whole number",
+    "number": "a number",
+    "null": "null",
+}
+
+
+def _describe(value: Any) -> str:
+    return _JSON_TYPES.get(type(value), type(value).__name__)
+
+
+def _explain(err: jsonschema.ValidationError) -> tuple[str, str]:
+    """(dotted field path, what is wrong) for one schema error, in plain words."""
+    path = ".".join(str(p) for p in err.absolute_path)
+    v = err.validator
+    if v == "required":
+        missing = [p for p in err.validator_value if p not in err.instance]
+        name = missing[0] if missing else "?"
+        return (f"{path}.{name}" if path else name), "is missing"
+    if v == "additionalProperties":
+        known = set(err.schema.get("properties", {}))
+        extra = sorted(k for k in err.instance if k not in known)
+        name = extra[0] if extra else "?"
+        return (f"{path}.{name}" if path else name), "is not a field this kind of entry has"
+    if v == "type":
+        want = err.validator_value
+        wants = [want] if isinstance(want, str) else list(want)
+        words = " or ".join(_TYPE_WORDS.get(w, w) for w in wants)
+        return path, f"must be {words}, not {_describe(err.instance)}"
+    if v in ("enum", "const"):
+        allowed = err.validator_value if v == "enum" else [err.validator_value]
+        return path, f"must be one of {json.dumps(allowed)}, not {json.dumps(err.instance)}"
+    if v in ("minLength", "minItems"):
+        return path, "must not be empty"
+    if v == "pattern":
+        return path, f"has the wrong form ({json.dumps(err.instance)})"
+    if v in ("minimum", "maximum"):
+        return path, f"is out of range ({json.dumps(err.instance)})"
+    return path, err.message
+
+
+def _first_error(schema: dict[str, Any], data: Any) -> jsonschema.ValidationError | None:
+    validator = jsonschema.Draft202012Validator(schema)
+    errors = sorted(validator.iter_errors(data), key=lambda e: (list(e.absolute_path), e.message))
+    return errors[0] if errors else None
+
+
+def _check_envelope(d: Any, name: str) -> None:
+    if not isinstance(d, dict):
+        raise FixLogError(
+            f"{name} is not a datemend fix log (its JSON is {_describe(d)}, not an object).", name
+        )
+    if d.get("format") != FORMAT:
+        raise FixLogError(f'{name} is not a datemend fix log (no "format": "{FORMAT}").', name)
+    version = d.get("version")
+    if not isinstance(version, int) or isinstance(version, bool):
+        raise FixLogError(
+            f'{name}: field "version" must be a whole number, not {_describe(version)}.',
+            name,
+            field="version",
+        )
+    if version > VERSION:
+        raise FixLogError(
+            f"{name} was saved by a newer datemend (fix log version {version}); this datemend "
+            f"({__version__}) reads version {VERSION} — update datemend to open it.",
+            name,
+            field="version",
+        )
+    step_shell = {"type": "object", "required": ["kind"], "properties": {"kind": {}}}
+    err = _first_error(_envelope_schema(step_shell), d)
+    if err is None:
+        return
+    path, what = _explain(err)
+    parts = path.split(".")
+    if len(parts) >= 2 and parts[0] == "steps" and parts[1].isdigit():
+        number = int(parts[1]) + 1
+        rest = ".".join(parts[3:]) if len(parts) > 3 else ".".join(parts[2:])
+        field_name = rest or "step"
+        raise FixLogError(
+            f'{name}: step {number}, field "{field_name}" {what}.', name, number, field_name
+        )
+    raise FixLogError(f'{name}: field "{path}" {what}.', name, field=path)
+
+
+def _build_step(d: dict[str, Any], number: int, name: str) -> Step:
+    kind = d["kind"]
+    if not isinstance(kind, str) or kind not in STEP_TYPES:
+        known = ", ".join(f'"{k}"' for k in sorted(STEP_TYPES))
+        raise FixLogError(
+            f'{name}: step {number}, field "kind": {json.dumps(kind)} is not a step kind this '
+            f"datemend knows ({known}).",
+            name,
+            number,
+            "kind",
+        )
+    cls = STEP_TYPES[kind]
+    err = _first_error(cls.schema(), d)
+    if err is not None:
+        path, what = _explain(err)
+        raise FixLogError(
+            f'{name}: step {number} ("{kind}"), field "{path}" {what}.', name, number, path
+        )
+    try:
+        return cls.from_dict(d)
+    except FieldValueError as err:
+        raise FixLogError(
+            f'{name}: step {number} ("{kind}"), field "{err.field}": {err}.',
+            name,
+            number,
+            err.field,
+        ) from None
+    except (ValueError, TypeError) as err:
+        raise FixLogError(
+            f'{name}: step {number} ("{kind}") is not valid: {err}.', name, number
+        ) from None
+
+
+# --------------------------------------------------------------------------------- apply
+
+
+def known_names(table: CleanTable) -> set[str]:
+    """Names a step may refer to: raw columns, parsed output names, derived columns."""
+    names = set(table.raw.names) | set(table.derived)
+    names |= {p.output_name for p in table.parsed.values()}
+    return names
+
+
+def apply_entry(table: CleanTable, entry: LogEntry, number: int, ctx: ApplyContext) -> CleanTable:
+    """Apply one entry (1-based ``number`` for messages); disabled entries change nothing, and a
+    step whose columns are not in the table is skipped with a warning."""
+    if not entry.enabled:
+        return table
+    step = entry.step
+    missing = [c for c in step.columns_read() if c not in known_names(table)]
+    if missing:
+        text = f'Step {number} was skipped: column "{missing[0]}" is not in the file.'
+        return table if text in table.warnings else table.with_warning(text)
+    try:
+        return step.apply(table, ctx)
+    except DatemendError as err:
+        raise StepError(f"Step {number} ({step.describe()}) failed: {err}") from None
+
+
+def apply_log(
+    log: FixLog,
+    raw: RawTable,
+    ctx: ApplyContext | None = None,
+    progress: Progress | None = None,
+) -> CleanTable:
+    """Run the log's enabled steps on ``raw``: a pure, deterministic function of its inputs
+    (pass ``ctx`` with a fixed ``today`` when a step depends on the day)."""
+    if ctx is None:
+        ctx = ApplyContext(key_column=log.key_column)
+    table = CleanTable(raw, key_column=ctx.key_column or log.key_column)
+    n = len(log.entries)
+    for i, entry in enumerate(log.entries):
+        if progress is not None:
+            progress.report(i, n, f"step {i + 1} of {n}")
+        table = apply_entry(table, entry, i + 1, ctx)
+    if progress is not None:
+        progress.report(n, n, "done")
+    return table
+
+
+def apply_to_dataframe(
+    log_or_path: FixLog | str | Path,
+    df: pd.DataFrame,
+    *,
+    ctx: ApplyContext | None = None,
+    keep_raw: bool = False,
+) -> pd.DataFrame:
+    """Notebook use: apply a log (or a log file) to a DataFrame of raw values and get a
+    DataFrame with the parsed columns (``datetime64[us]``, NaT where unresolved) back."""
+    log = log_or_path if isinstance(log_or_path, FixLog) else FixLog.load(log_or_path)
+    clean = apply_log(log, RawTable.from_dataframe(df), ctx)
+    return clean.to_dataframe(keep_raw=keep_raw)
+
+
+def auto_fix(
+    raw: RawTable,
+    reports: Iterable[ColumnReport] | None = None,
+    *,
+    prefer_day_order: str | None = None,
+    reference_year: int | None = None,
+    key_column: str | Literal["detect"] | None = "detect",
+    progress: Progress | None = None,
+) -> tuple[FixLog, CleanTable]:
+    """Accept the best suggestion of every date column (the CLI's ``auto``): the log, with facts
+    and value ranges of ``raw``, and the table it gives. ``reports`` default to a fresh scan."""
+    from .infer import scan
+    from .rowkey import detect_key_column
+    from .steps import ReadDates
+
+    if reports is None:
+        reports = scan(
+            raw,
+            prefer_day_order=prefer_day_order,
+            reference_year=reference_year,
+            progress=progress,
+        )
+    key = detect_key_column(raw) if key_column == "detect" else key_column
+    log = FixLog(key_column=key)
+    for rep in reports:
+        best = rep.best
+        if rep.is_date and best is not None and rep.column in raw:
+            log = log.add(ReadDates(rep.column, best.spec, best.label))
+    clean = apply_log(log, raw, progress=progress)
+    return log.with_source(clean), clean
+
+
+def make_auto_log(
+    raw: RawTable,
+    reports: Iterable[ColumnReport] | None = None,
+    *,
+    prefer_day_order: str | None = None,
+    reference_year: int | None = None,
+    key_column: str | Literal["detect"] | None = "detect",
+) -> FixLog:
+    """The log ``auto_fix`` makes (see there)."""
+    return auto_fix(
+        raw,
+        reports,
+        prefer_day_order=prefer_day_order,
+        reference_year=reference_year,
+        key_column=key_column,
+    )[0]

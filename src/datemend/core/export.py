@@ -1,0 +1,371 @@
+"""Export a CleanTable: a workbook with true date cells, or CSV / Parquet, written atomically.
+
+``export_table`` picks a writer from the target's suffix and the source:
+
+- ``"workbook"``: XLSX/XLSM source to XLSX/XLSM target. The source workbook is opened with
+  openpyxl (formulas kept, macros kept for XLSM), only the cells of the fixed columns change, and
+  every other sheet, value, number format, width, merged range and formula stays as it was.
+- ``"streaming"``: a new single-sheet XLSX written row by row (openpyxl write-only mode), used
+  when the workbook need not be kept (a CSV or ODS source, or ``ExportOptions.streaming``).
+- ``"csv"`` and ``"parquet"``: flat files built with vectorised column operations.
+
+ODS is read, not written: an ``.ods`` target raises ExportError.
+
+Whatever the writer, the file is first written to a temporary file in the target's folder and
+then moved into place with ``os.replace``, so a failure leaves the target absent or as it was.
+The source path is refused as a target.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import errno
+import hashlib
+import os
+import tempfile
+import zoneinfo
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import TypeVar
+
+import numpy as np
+import pandas as pd
+
+from .clean import NAIVE, CellState, CleanTable, ParsedColumn
+from .progress import Progress
+from .table import DatemendError
+
+__all__ = ["ExportError", "ExportOptions", "ExportResult", "export_table", "target_format"]
+
+_T = TypeVar("_T")
+
+_FORMATS = {".xlsx": "xlsx", ".xlsm": "xlsx", ".csv": "csv", ".tsv": "csv", ".txt": "csv"}
+_FORMATS |= {".parquet": "parquet", ".pq": "parquet"}
+
+WRITER_TEXT = {
+    "workbook": "the source workbook, with every other sheet, formula and format kept",
+    "streaming": "a new single-sheet workbook written row by row (other sheets are not copied)",
+    "csv": "a CSV file (UTF-8, ISO 8601 dates)",
+    "parquet": "a Parquet file with date and timestamp types",
+}
+
+
+class ExportError(DatemendError):
+    """An export could not be written; the message is one sentence naming the file.
+
+    ODS is a format datemend reads but does not write, so an ``.ods`` target is refused here.
+    """
+
+    def __init__(self, message: str, path: str | Path | None = None) -> None:
+        super().__init__(message)
+        self.path = None if path is None else str(path)
+
+
+@dataclass(frozen=True)
+class ExportOptions:
+    """How to write. Defaults change nothing in the workbook beyond the fixed cells.
+
+    - ``format``: "xlsx", "csv" or "parquet"; None takes it from the target's suffix
+      (ODS is read, not written).
+    - ``date_format`` / ``datetime_format``: XLSX number formats of date and date-time cells.
+    - ``keep_raw``: keep each fixed column's original cells in a column "<name> (raw)"; in a kept
+      workbook it is appended at the right end (so formulas' references stay valid), in a new
+      file it sits just after the fixed column. Parquet always keeps it for a column with
+      unresolved cells, since a typed column cannot hold their text.
+    - ``unresolved_sheet`` / ``log_sheet``: add a sheet listing every unresolved cell, or the
+      fix log's sentences (XLSX only).
+    - ``zone``: values that carried a UTC offset are written as wall-clock time in this zone
+      ("UTC" or an IANA name); XLSX cells hold no zone, so the header gets a note saying which
+      (a cell comment, or a suffix with ``zone_in_header``). Values with no offset are written as
+      they were read.
+    - ``delimiter``, ``bom``, ``line_terminator``: CSV layout (UTF-8 always).
+    - ``csv_formula_guard``: prefix text cells that begin with = + - @ TAB or CR with a single
+      quote (OWASP's CSV-injection advice). Off by default because it changes values: a CSV is
+      usually read by programs, and negative numbers kept as text would change too. XLSX never
+      needs it: text is always stored as text there.
+    - ``streaming``: None picks (stream when the workbook need not be kept); True forces a new
+      workbook written row by row; False insists on keeping the workbook.
+    - ``clear_blank_tokens``: cells read as blank (empty, or a placeholder such as "n/a") are
+      written empty; set False to leave placeholders as they were.
+    - ``sheet_name``: sheet name of a new workbook (default: the source sheet's, else "Data").
+    """
+
+    format: str | None = None
+    date_format: str = "yyyy-mm-dd"
+    datetime_format: str = "yyyy-mm-dd hh:mm:ss"
+    keep_raw: bool = False
+    unresolved_sheet: bool = False
+    log_sheet: bool = False
+    zone: str = "UTC"
+    zone_in_header: bool = False
+    delimiter: str = ","
+    bom: bool = False
+    line_terminator: str = "\r\n"
+    csv_formula_guard: bool = False
+    streaming: bool | None = None
+    clear_blank_tokens: bool = True
+    sheet_name: str | None = None
+
+
+@dataclass(frozen=True)
+class ExportResult:
+    """What was written, by which writer, and anything the user should know about it."""
+
+    path: Path
+    format: str  # "xlsx", "csv" or "parquet"
+    writer: str  # "workbook", "streaming", "csv" or "parquet"
+    rows: int
+    columns: int
+    dates_written: int
+    unresolved: int
+    notes: tuple[str, ...] = ()
+
+    @property
+    def writer_text(self) -> str:
+        """One phrase for the UI: which writer was used and what it keeps."""
+        return WRITER_TEXT[self.writer]
+
+
+# --------------------------------------------------------------------------- column preparation
+
+
+@dataclass(frozen=True, eq=False)
+class DateOut:
+    """The cells of one fixed column, ready for any writer (all arrays row-aligned)."""
+
+    col: ParsedColumn
+    ok: np.ndarray  # bool: write a date here
+    blank: np.ndarray  # bool: write an empty cell here
+    keep: np.ndarray  # bool: keep the raw cell (unresolved)
+    local: np.ndarray  # datetime64[us]: the value to write where ``ok``
+    offset: np.ndarray  # int32 minutes east of UTC of ``local``, NAIVE where no offset was read
+    date_only: bool
+    aware: bool  # some written value carried an offset (moved to the chosen zone)
+    mixed: bool  # both offset-carrying and naive values are written
+
+    @property
+    def unresolved(self) -> int:
+        return int(self.keep.sum())
+
+
+def prepare_dates(col: ParsedColumn, raw_kinds: np.ndarray, options: ExportOptions) -> DateOut:
+    """Masks and wall-clock values of one fixed column, vectorised."""
+    state = col.state
+    has_value = ~np.isnat(col.value)
+    ok = ((state == CellState.PARSED) | (state == CellState.MANUAL)) & has_value
+    blank = state == CellState.BLANK
+    if not options.clear_blank_tokens:
+        blank &= raw_kinds == 0  # CellKind.EMPTY: placeholders stay as written
+    keep = ~ok & ~blank
+    aware_mask = ok & (col.offset_min != NAIVE)
+    local = np.where(ok, col.value, np.datetime64("NaT", "us")).astype("datetime64[us]")
+    offset = np.full(len(col), NAIVE, dtype=np.int32)
+    if aware_mask.any():
+        utc = col.utc()[aware_mask]
+        wall, off = to_zone(utc, options.zone)
+        local[aware_mask] = wall
+        offset[aware_mask] = off
+    date_only = bool(col.date_only or not col.has_time[ok].any())
+    if date_only:
+        local = local.astype("datetime64[D]").astype("datetime64[us]")
+    aware = bool(aware_mask.any())
+    mixed = aware and bool((ok & ~aware_mask).any())
+    return DateOut(col, ok, blank, keep, local, offset, date_only, aware, mixed)
+
+
+def to_zone(utc: np.ndarray, zone: str) -> tuple[np.ndarray, np.ndarray]:
+    """UTC instants as wall-clock datetime64[us] in ``zone`` and that zone's offset in minutes."""
+    utc = utc.astype("datetime64[us]")
+    if zone.upper() == "UTC":
+        return utc, np.zeros(len(utc), dtype=np.int32)
+    idx = pd.DatetimeIndex(utc).tz_localize("UTC").tz_convert(zone).tz_localize(None)
+    wall = idx.as_unit("us").to_numpy()
+    off = ((wall - utc) // np.timedelta64(1, "m")).astype(np.int32)
+    return wall, off
+
+
+def zone_note(options: ExportOptions) -> str:
+    return f"Times that carried a UTC offset are written in {options.zone}."
+
+
+def unique_name(name: str, taken: set[str]) -> str:
+    """``name``, or ``name (2)``, ``name (3)``... whichever is not taken; the result is taken."""
+    out, n = name, 2
+    while out in taken:
+        out, n = f"{name} ({n})", n + 1
+    taken.add(out)
+    return out
+
+
+# --------------------------------------------------------------------------- the public call
+
+
+def target_format(target: str | Path, options: ExportOptions | None = None) -> str:
+    """ "xlsx", "csv" or "parquet" for a target path (ExportError for anything else)."""
+    path = Path(target)
+    if options is not None and options.format:
+        fmt = options.format.lower()
+        if fmt not in {"xlsx", "csv", "parquet"}:
+            raise ExportError(f'"{options.format}" is not a format datemend writes.', path)
+        return fmt
+    suffix = path.suffix.lower()
+    if suffix == ".ods":
+        raise ExportError(f"{path.name}: ODS is read but not written; choose XLSX or CSV.", path)
+    if suffix not in _FORMATS:
+        raise ExportError(
+            f"{path.name}: choose a name ending in .xlsx, .csv or .parquet to export.", path
+        )
+    return _FORMATS[suffix]
+
+
+def export_table(
+    clean: CleanTable,
+    target: str | Path,
+    *,
+    options: ExportOptions | None = None,
+    log_lines: Sequence[str] = (),
+    overwrite: bool = False,
+    progress: Progress | None = None,
+) -> ExportResult:
+    """Write ``clean`` to ``target`` (atomically; never the source path) and say what was done."""
+    options = options or ExportOptions()
+    progress = progress or Progress()
+    target = Path(target)
+    fmt = target_format(target, options)
+    _check_options(options, target)
+    _check_target(clean, target, overwrite)
+    facts = clean.raw.facts
+    source = Path(facts.path) if facts.path else None
+    workbook_source = facts.format in {"xlsx", "xlsm"} and source is not None
+    if fmt == "xlsx":
+        if options.streaming is False and not workbook_source:
+            raise ExportError(
+                f"{target.name}: only an XLSX or XLSM source can be kept as a workbook.", target
+            )
+        writer = "streaming" if options.streaming or not workbook_source else "workbook"
+    else:
+        writer = fmt
+    if writer == "workbook":
+        assert source is not None
+        _check_source_unchanged(source, facts.sha256)
+        if target.suffix.lower() == ".xlsm" and facts.format != "xlsm":
+            raise ExportError(f"{target.name}: an XLSM file can only come from an XLSM source.")
+
+    from . import export_flat, export_xlsx
+
+    write: Callable[[Path], tuple[int, int, int, int, list[str]]]
+    if writer == "workbook":
+        keep_vba = facts.format == "xlsm" and target.suffix.lower() == ".xlsm"
+
+        def write(tmp: Path) -> tuple[int, int, int, int, list[str]]:
+            return export_xlsx.write_workbook(
+                clean, tmp, options, log_lines, progress, keep_vba=keep_vba
+            )
+    elif writer == "streaming":
+
+        def write(tmp: Path) -> tuple[int, int, int, int, list[str]]:
+            return export_xlsx.write_streaming(clean, tmp, options, log_lines, progress)
+    elif writer == "csv":
+
+        def write(tmp: Path) -> tuple[int, int, int, int, list[str]]:
+            return export_flat.write_csv(clean, tmp, options, progress)
+    else:
+
+        def write(tmp: Path) -> tuple[int, int, int, int, list[str]]:
+            return export_flat.write_parquet(clean, tmp, options, progress)
+
+    rows, cols, dates, unresolved, notes = atomic_write(target, write)
+    if writer == "workbook" and facts.format == "xlsm" and not keep_vba:
+        notes.append("Macros were not copied: an XLSX file cannot hold them (use .xlsm).")
+    return ExportResult(target, fmt, writer, rows, cols, dates, unresolved, tuple(notes))
+
+
+def atomic_write(target: Path, write: Callable[[Path], _T]) -> _T:
+    """Run ``write`` on a temporary file beside ``target``, then move it into place.
+
+    On any failure (an exception, a full disk, a cancel) the temporary file is removed and the
+    target is left absent or as it was.
+    """
+    try:
+        fd, name = tempfile.mkstemp(dir=target.parent, prefix=f".{target.stem}.", suffix=".part")
+    except OSError as err:
+        raise ExportError(_os_sentence(err, target), target) from err
+    os.close(fd)
+    tmp = Path(name)
+    try:
+        result = write(tmp)
+        os.chmod(tmp, 0o666 & ~_UMASK)
+        os.replace(tmp, target)
+    except OSError as err:
+        _remove(tmp)
+        raise ExportError(_os_sentence(err, target), target) from err
+    except BaseException:
+        _remove(tmp)
+        raise
+    return result
+
+
+def _remove(tmp: Path) -> None:
+    with contextlib.suppress(FileNotFoundError):
+        tmp.unlink()
+
+
+def _read_umask() -> int:
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
+_UMASK = _read_umask()
+
+
+def _os_sentence(err: OSError, target: Path) -> str:
+    if err.errno == errno.ENOSPC:
+        return f"Could not write {target.name}: the disk is full."
+    if isinstance(err, PermissionError):
+        return f"Could not write {target.name}: permission denied in {target.parent}."
+    return f"Could not write {target.name}: {err.strerror or err}."
+
+
+def _check_options(options: ExportOptions, target: Path) -> None:
+    if options.zone.upper() != "UTC":
+        try:
+            zoneinfo.ZoneInfo(options.zone)
+        except (zoneinfo.ZoneInfoNotFoundError, ValueError) as err:
+            raise ExportError(f'"{options.zone}" is not a known time zone.', target) from err
+    d = options.delimiter
+    if len(d) != 1 or d in {'"', "\r", "\n"}:
+        raise ExportError(f"{d!r} cannot be used as a CSV delimiter.", target)
+
+
+def _check_target(clean: CleanTable, target: Path, overwrite: bool) -> None:
+    """Refuse the source path, a folder, a missing folder, or an existing file without consent."""
+    src = clean.raw.facts.path
+    if src is not None:
+        same = Path(src).resolve() == target.resolve()
+        if not same and target.exists() and Path(src).exists():
+            same = os.path.samefile(src, target)
+        if same:
+            raise ExportError(
+                f"{target.name} is the file being read; export to a new name.", target
+            )
+    if target.is_dir():
+        raise ExportError(f"{target.name} is a folder; choose a file name.", target)
+    if not target.parent.is_dir():
+        raise ExportError(f"Cannot export to {target.name}: {target.parent} is not a folder.")
+    if target.exists() and not overwrite:
+        raise ExportError(f"{target.name} already exists; confirm to overwrite it.", target)
+
+
+def _check_source_unchanged(source: Path, sha256: str | None) -> None:
+    if not source.is_file():
+        raise ExportError(f"{source.name} is no longer there, so its workbook cannot be kept.")
+    if sha256 is None:
+        return
+    digest = hashlib.sha256()
+    with source.open("rb") as fh:
+        for block in iter(lambda: fh.read(1 << 20), b""):
+            digest.update(block)
+    if digest.hexdigest() != sha256:
+        raise ExportError(f"{source.name} changed since it was opened; open it again to export.")

@@ -665,3 +665,12 @@ def make_auto_log(
         reference_year=reference_year,
         key_column=key_column,
     )[0]
+
+
+def __getattr__(name: str) -> Any:
+    # ``fixlog.replay`` and ``fixlog.ReplayReport`` live in replay.py (which imports this module).
+    if name in ("replay", "ReplayReport", "drift_report"):
+        from . import replay as _replay
+
+        return getattr(_replay, name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

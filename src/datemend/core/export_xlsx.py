@@ -7,6 +7,7 @@ formulas in the source are never touched, so they stay formulas.
 
 from __future__ import annotations
 
+import contextlib
 import datetime as _dt
 from collections.abc import Sequence
 from pathlib import Path
@@ -413,6 +414,33 @@ def write_streaming(
 ) -> Counts:
     """A new workbook written row by row (openpyxl write-only): memory stays flat."""
     wb = openpyxl.Workbook(write_only=True)
+    try:
+        return _stream_book(wb, clean, tmp, options, log_lines, progress)
+    except BaseException:
+        _discard(wb)
+        raise
+
+
+def _discard(wb: Any) -> None:
+    """Close and delete openpyxl's own per-sheet temporary files after a failed write."""
+    for ws in wb.worksheets:
+        with contextlib.suppress(Exception):
+            if ws._rows is not None:
+                ws._rows.close()
+        with contextlib.suppress(Exception):
+            if ws._writer is not None:
+                ws._writer.close()
+                ws._writer.cleanup()
+
+
+def _stream_book(
+    wb: Any,
+    clean: CleanTable,
+    tmp: Path,
+    options: ExportOptions,
+    log_lines: Sequence[str],
+    progress: Progress,
+) -> Counts:
     title = options.sheet_name or clean.raw.facts.sheet or "Data"
     ws = wb.create_sheet(title[:31])
     fix = _Text()

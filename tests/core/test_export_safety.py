@@ -1,0 +1,318 @@
+"""Export never harms: never the source path, atomic replace, nothing left behind on failure,
+text that looks like a formula stays text (OWASP CSV-injection guidance for the CSV option)."""
+
+from __future__ import annotations
+
+import csv
+import errno
+import io
+import os
+import subprocess
+import sys
+import textwrap
+
+import numpy as np
+import openpyxl
+import pandas as pd
+import pyarrow.parquet as pq
+import pytest
+from test_export_book import HEADER_ROW, build_book, clean_table, sha256
+
+from datemend.core import export_flat, export_xlsx
+from datemend.core.clean import CellState, CleanTable, ParsedColumn
+from datemend.core.export import ExportError, ExportOptions, export_table
+from datemend.core.progress import Cancelled, Progress
+from datemend.core.table import RawTable, SourceFacts
+
+INJECTION = ["=1+1", "@SUM(A1)", "+1-2", "-3+4", '=HYPERLINK("http://x")', "plain"]
+
+
+def _leftovers(folder, keep):
+    return sorted(p.name for p in folder.iterdir() if p.name not in keep)
+
+
+@pytest.fixture
+def book(tmp_path):
+    src = build_book(tmp_path / "club.xlsx")
+    return src, clean_table(src), sha256(src)
+
+
+# --------------------------------------------------------------------------- the target
+
+
+def test_source_path_is_refused(book, tmp_path):
+    src, table, before = book
+    for target in (src, tmp_path / "." / "club.xlsx", tmp_path / "sub" / ".." / "club.xlsx"):
+        (tmp_path / "sub").mkdir(exist_ok=True)
+        with pytest.raises(ExportError, match="club.xlsx is the file being read"):
+            export_table(table, target, overwrite=True)
+    assert sha256(src) == before
+
+
+def test_source_reached_through_a_link_is_refused(book, tmp_path):
+    src, table, before = book
+    hard = tmp_path / "hard.xlsx"
+    os.link(src, hard)
+    soft = tmp_path / "soft.xlsx"
+    soft.symlink_to(src)
+    for target in (hard, soft):
+        with pytest.raises(ExportError, match="is the file being read"):
+            export_table(table, target, overwrite=True)
+    assert sha256(src) == before
+
+
+def test_existing_target_needs_overwrite(book, tmp_path):
+    _, table, _ = book
+    target = tmp_path / "out.xlsx"
+    target.write_bytes(b"old contents")
+    with pytest.raises(ExportError, match="out.xlsx already exists"):
+        export_table(table, target)
+    assert target.read_bytes() == b"old contents"
+    export_table(table, target, overwrite=True)
+    assert openpyxl.load_workbook(target).sheetnames[0] == "Members"
+    assert _leftovers(tmp_path, {"club.xlsx", "out.xlsx"}) == []
+
+
+@pytest.mark.parametrize(
+    ("name", "message"),
+    [
+        ("out.ods", "ODS is read but not written"),
+        ("out.json", "choose a name ending in .xlsx, .csv or .parquet"),
+        ("missing/out.xlsx", "is not a folder"),
+    ],
+)
+def test_targets_refused_with_one_sentence(book, tmp_path, name, message):
+    _, table, _ = book
+    with pytest.raises(ExportError, match=message) as err:
+        export_table(table, tmp_path / name)
+    assert str(err.value).count(". ") == 0 and str(err.value).endswith(".")
+
+
+def test_bad_options_refused(book, tmp_path):
+    _, table, _ = book
+    with pytest.raises(ExportError, match="not a known time zone"):
+        export_table(table, tmp_path / "a.csv", options=ExportOptions(zone="Mars/Olympus"))
+    with pytest.raises(ExportError, match="delimiter"):
+        export_table(table, tmp_path / "a.csv", options=ExportOptions(delimiter='"'))
+
+
+def test_source_changed_since_opened(book, tmp_path):
+    src, table, _ = book
+    wb = openpyxl.load_workbook(src)
+    wb["Members"]["A3"] = "changed"
+    wb.save(src)
+    with pytest.raises(ExportError, match="changed since it was opened"):
+        export_table(table, tmp_path / "out.xlsx")
+    assert not (tmp_path / "out.xlsx").exists()
+
+
+def test_rows_that_no_longer_match_are_refused(book, tmp_path):
+    """A date written into the wrong row would be silently wrong: if the sheet row of a cell to
+    change does not hold the value that was read, nothing is written."""
+    src, table, _ = book
+    shifted = RawTable(table.raw.columns, table.raw.facts, table.raw.source_rows + 1)
+    with pytest.raises(ExportError, match='row 4 of column "Joined" no longer matches'):
+        export_table(table.evolve(raw=shifted), tmp_path / "out.xlsx")
+    assert _leftovers(tmp_path, {"club.xlsx"}) == []
+
+
+# --------------------------------------------------------------------------- failures mid-way
+
+
+def _partial_then(exc):
+    def fake(*args, **kwargs):
+        target = args[1] if len(args) > 1 else kwargs.get("filename")
+        with open(target, "wb") as fh:
+            fh.write(b"PK\x03\x04 half a workbook")
+        raise exc
+
+    return fake
+
+
+FAULTS = [
+    ("exception", RuntimeError("writer broke"), RuntimeError),
+    ("disk full", OSError(errno.ENOSPC, "No space left on device"), ExportError),
+    ("permission", PermissionError(errno.EACCES, "Permission denied"), ExportError),
+]
+
+
+@pytest.mark.parametrize(("why", "exc", "raised"), FAULTS, ids=[f[0] for f in FAULTS])
+@pytest.mark.parametrize("existing", [False, True], ids=["no-target", "old-target"])
+def test_workbook_write_failing_midway(book, tmp_path, monkeypatch, why, exc, raised, existing):
+    src, table, before = book
+    target = tmp_path / "out.xlsx"
+    if existing:
+        target.write_bytes(b"previous export")
+    monkeypatch.setattr(openpyxl.Workbook, "save", _partial_then(exc))
+    with pytest.raises(raised) as err:
+        export_table(table, target, overwrite=True)
+    if why == "disk full":
+        assert str(err.value) == "Could not write out.xlsx: the disk is full."
+    assert sha256(src) == before
+    assert _leftovers(tmp_path, {"club.xlsx", "out.xlsx"}) == []  # no temporary file
+    if existing:
+        assert target.read_bytes() == b"previous export"
+    else:
+        assert not target.exists()
+
+
+@pytest.mark.parametrize("fmt", ["csv", "parquet", "streaming-xlsx"])
+def test_flat_writes_failing_midway(book, tmp_path, monkeypatch, fmt):
+    src, table, before = book
+    target = tmp_path / ("out.xlsx" if fmt == "streaming-xlsx" else f"out.{fmt}")
+    target.write_bytes(b"previous export")
+    full = OSError(errno.ENOSPC, "No space left on device")
+    if fmt == "csv":
+        calls = []
+        real = pd.DataFrame.to_csv
+
+        def to_csv(self, fh, **kw):
+            calls.append(1)
+            if len(calls) > 1:
+                raise full
+            return real(self, fh, **kw)
+
+        monkeypatch.setattr(export_flat, "_CHUNK", 3)  # several chunks: fail on the second
+        monkeypatch.setattr(pd.DataFrame, "to_csv", to_csv)
+    elif fmt == "parquet":
+        monkeypatch.setattr(pq, "write_table", _partial_then(full))
+    else:
+        monkeypatch.setattr(openpyxl.Workbook, "save", _partial_then(full))
+    opts = ExportOptions(streaming=True) if fmt == "streaming-xlsx" else None
+    with pytest.raises(ExportError, match="the disk is full"):
+        export_table(table, target, overwrite=True, options=opts)
+    assert target.read_bytes() == b"previous export"
+    assert sha256(src) == before
+    assert _leftovers(tmp_path, {"club.xlsx", target.name}) == []
+
+
+def test_cancel_leaves_nothing(book, tmp_path):
+    _, table, _ = book
+    progress = Progress()
+    progress.cancel()
+    with pytest.raises(Cancelled):
+        export_table(table, tmp_path / "out.csv", progress=progress)
+    assert _leftovers(tmp_path, {"club.xlsx"}) == []
+
+
+def test_killed_process_leaves_target_as_it_was(book, tmp_path):
+    """A process killed mid-write (SIGKILL, no chance to clean up) never touches the target:
+    the half-written data is only in the hidden temporary file."""
+    src, _, before = book
+    target = tmp_path / "out.xlsx"
+    target.write_bytes(b"previous export")
+    ready = tmp_path / "ready"
+    script = textwrap.dedent(
+        f"""
+        import sys, time, pathlib, openpyxl
+        sys.path.insert(0, {str(os.path.dirname(__file__))!r})
+        from test_export_book import clean_table
+        from datemend.core.export import export_table
+        def save(self, filename):
+            open(filename, "wb").write(b"PK half")
+            pathlib.Path({str(ready)!r}).touch()
+            time.sleep(60)
+        openpyxl.Workbook.save = save
+        export_table(clean_table(pathlib.Path({str(src)!r})), {str(target)!r}, overwrite=True)
+        """
+    )
+    proc = subprocess.Popen([sys.executable, "-c", script])
+    try:
+        for _ in range(600):
+            if ready.exists() or proc.poll() is not None:
+                break
+            import time
+
+            time.sleep(0.05)
+        assert ready.exists(), "the child never reached the write"
+        proc.kill()
+        proc.wait(timeout=30)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+    assert target.read_bytes() == b"previous export"
+    assert sha256(src) == before
+    left = _leftovers(tmp_path, {"club.xlsx", "out.xlsx", "ready"})
+    assert all(name.startswith(".out.") and name.endswith(".part") for name in left)
+
+
+# --------------------------------------------------------------------------- formula-like text
+
+
+def _text_table(values: list[str], fmt: str = "csv") -> CleanTable:
+    df = pd.DataFrame({"Note": values, "Raced": ["2024-05-0" + str(i % 9 + 1) for i in range(6)]})
+    raw = RawTable.from_dataframe(df, SourceFacts(format=fmt), text_only=True)
+    col = ParsedColumn.empty("Raced", len(values)).evolve(
+        value=np.array([f"2024-05-0{i % 9 + 1}" for i in range(6)], dtype="datetime64[us]"),
+        state=np.full(6, CellState.PARSED, dtype=np.int8),
+    )
+    return CleanTable(raw).with_parsed(col)
+
+
+def test_formula_like_text_stays_text_in_csv(tmp_path):
+    out = tmp_path / "notes.csv"
+    export_table(_text_table(INJECTION), out)
+    with open(out, newline="", encoding="utf-8") as fh:
+        rows = list(csv.reader(fh))
+    assert [r[0] for r in rows[1:]] == INJECTION  # default: values unchanged
+
+
+def test_csv_formula_guard_prefixes_a_quote(tmp_path):
+    # OWASP "CSV Injection": prefix cells beginning with = + - @ (and tab, CR) with a quote.
+    out = tmp_path / "guarded.csv"
+    export_table(_text_table(INJECTION), out, options=ExportOptions(csv_formula_guard=True))
+    with open(out, newline="", encoding="utf-8") as fh:
+        rows = list(csv.reader(fh))
+    want = ["'=1+1", "'@SUM(A1)", "'+1-2", "'-3+4", '\'=HYPERLINK("http://x")', "plain"]
+    assert [r[0] for r in rows[1:]] == want
+    assert [r[1] for r in rows[1:]] == [f"2024-05-0{i + 1}" for i in range(6)]  # dates untouched
+
+
+def test_formula_like_text_stays_text_in_new_xlsx(tmp_path):
+    out = tmp_path / "notes.xlsx"
+    result = export_table(_text_table(INJECTION), out)
+    assert result.writer == "streaming"
+    ws = openpyxl.load_workbook(out).active
+    cells = [ws.cell(r, 1) for r in range(2, 8)]
+    assert [c.value for c in cells] == INJECTION
+    assert {c.data_type for c in cells} == {"s"}
+    assert ws.cell(2, 2).is_date
+
+
+def test_formula_like_text_stays_text_in_kept_workbook(book, tmp_path):
+    _, table, _ = book
+    out = tmp_path / "out.xlsx"
+    export_table(table, out, options=ExportOptions(keep_raw=True))
+    ws = openpyxl.load_workbook(out)["Members"]
+    for ref in ("E3", "E4", "E10"):  # "=1+1", "@SUM(A1)", "=2+2" typed as text in the source
+        assert ws[ref].data_type == "s", ref
+    assert ws["E3"].value == "=1+1" and ws["E4"].value == "@SUM(A1)"
+    assert ws["D3"].data_type == "f" and ws["D3"].value == "=C3*2"  # a formula stays a formula
+    assert (
+        ws.cell(HEADER_ROW + 9, 2).value == "=1+1" and ws.cell(HEADER_ROW + 9, 2).data_type == "s"
+    )
+
+
+def test_injection_rows_have_no_repeats():
+    assert len(set(INJECTION)) == len(INJECTION)
+
+
+def test_xlsm_source_to_xlsx_drops_macros_with_a_note(tmp_path):
+    src = build_book(tmp_path / "club.xlsm")
+    result = export_table(clean_table(src), tmp_path / "out.xlsx")
+    assert result.writer == "workbook"
+    assert any("Macros were not copied" in n for n in result.notes)
+    with pytest.raises(ExportError, match="XLSM file can only come from an XLSM source"):
+        xl = build_book(tmp_path / "plain.xlsx")
+        export_table(clean_table(xl), tmp_path / "out.xlsm")
+
+
+def test_control_characters_are_replaced_and_counted(tmp_path):
+    out = tmp_path / "nul.xlsx"
+    result = export_table(_text_table(["a\x00b", "ok", "x", "y", "z", "w"]), out)
+    assert openpyxl.load_workbook(out).active["A2"].value == "a\ufffdb"
+    assert any("control characters" in n for n in result.notes)
+    csv_out = tmp_path / "nul.csv"
+    export_table(_text_table(["a\x00b", "ok", "x", "y", "z", "w"]), csv_out)
+    assert io.open(csv_out, encoding="utf-8").read().splitlines()[1].startswith("a\x00b")
+    assert export_xlsx is not None

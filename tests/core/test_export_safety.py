@@ -5,7 +5,6 @@ from __future__ import annotations
 
 import csv
 import errno
-import io
 import os
 import subprocess
 import sys
@@ -18,7 +17,7 @@ import pyarrow.parquet as pq
 import pytest
 from test_export_book import HEADER_ROW, build_book, clean_table, sha256
 
-from datemend.core import export_flat, export_xlsx
+from datemend.core import export_flat
 from datemend.core.clean import CellState, CleanTable, ParsedColumn
 from datemend.core.export import ExportError, ExportOptions, export_table
 from datemend.core.progress import Cancelled, Progress
@@ -44,7 +43,7 @@ def test_source_path_is_refused(book, tmp_path):
     src, table, before = book
     for target in (src, tmp_path / "." / "club.xlsx", tmp_path / "sub" / ".." / "club.xlsx"):
         (tmp_path / "sub").mkdir(exist_ok=True)
-        with pytest.raises(ExportError, match="club.xlsx is the file being read"):
+        with pytest.raises(ExportError, match=r"club\.xlsx is the file being read"):
             export_table(table, target, overwrite=True)
     assert sha256(src) == before
 
@@ -65,7 +64,7 @@ def test_existing_target_needs_overwrite(book, tmp_path):
     _, table, _ = book
     target = tmp_path / "out.xlsx"
     target.write_bytes(b"old contents")
-    with pytest.raises(ExportError, match="out.xlsx already exists"):
+    with pytest.raises(ExportError, match=r"out\.xlsx already exists"):
         export_table(table, target)
     assert target.read_bytes() == b"old contents"
     export_table(table, target, overwrite=True)
@@ -109,7 +108,7 @@ def test_source_changed_since_opened(book, tmp_path):
 def test_rows_that_no_longer_match_are_refused(book, tmp_path):
     """A date written into the wrong row would be silently wrong: if the sheet row of a cell to
     change does not hold the value that was read, nothing is written."""
-    src, table, _ = book
+    _, table, _ = book
     shifted = RawTable(table.raw.columns, table.raw.facts, table.raw.source_rows + 1)
     with pytest.raises(ExportError, match='row 4 of column "Joined" no longer matches'):
         export_table(table.evolve(raw=shifted), tmp_path / "out.xlsx")
@@ -314,5 +313,4 @@ def test_control_characters_are_replaced_and_counted(tmp_path):
     assert any("control characters" in n for n in result.notes)
     csv_out = tmp_path / "nul.csv"
     export_table(_text_table(["a\x00b", "ok", "x", "y", "z", "w"]), csv_out)
-    assert io.open(csv_out, encoding="utf-8").read().splitlines()[1].startswith("a\x00b")
-    assert export_xlsx is not None
+    assert csv_out.read_text(encoding="utf-8").splitlines()[1].startswith("a\x00b")

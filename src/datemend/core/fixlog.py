@@ -32,6 +32,7 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as _dt
+import importlib
 import json
 import os
 import re
@@ -67,6 +68,7 @@ __all__ = [
     "apply_to_dataframe",
     "auto_fix",
     "fixlog_schema",
+    "load_step_kinds",
     "make_auto_log",
     "parsed_ranges",
 ]
@@ -272,6 +274,7 @@ class FixLog:
     @classmethod
     def from_dict(cls, d: Any, name: str = "the fix log") -> FixLog:
         """Validate JSON data and build the log; every problem is one FixLogError."""
+        load_step_kinds()
         _check_envelope(d, name)
         entries = []
         for i, item in enumerate(d["steps"], start=1):
@@ -328,6 +331,23 @@ class FixLog:
         except FixLogError as err:
             err.path = str(path)
             raise
+
+
+# ---------------------------------------------------------------------------- step kinds
+
+#: Modules that register more step kinds (derived columns, rules); imported before a log is read.
+STEP_MODULES = ("derive", "checks")
+
+
+def load_step_kinds() -> None:
+    """Import every module that registers step kinds, so a log may use any of them."""
+    for mod in STEP_MODULES:
+        name = f"{__package__}.{mod}"
+        try:
+            importlib.import_module(name)
+        except ModuleNotFoundError as err:
+            if err.name != name:
+                raise
 
 
 # ------------------------------------------------------------------------------ parsing
@@ -413,6 +433,7 @@ def _envelope_schema(step_schema: dict[str, Any]) -> dict[str, Any]:
 def fixlog_schema() -> dict[str, Any]:
     """The whole log's JSON Schema, built from every registered step kind (for documentation and
     other tools; loading checks the same rules step by step, for clearer messages)."""
+    load_step_kinds()
     kinds = sorted(STEP_TYPES)
     step = {
         "type": "object",

@@ -413,7 +413,7 @@ def _envelope_schema(step_schema: dict[str, Any]) -> dict[str, Any]:
             "version": {"type": "integer", "minimum": 1},
             "datemend_version": {"type": "string"},
             "created": {"type": "string"},
-            "source": {"anyOf": [dataclass_schema(LogSource), {"type": "null"}]},
+            "source": {**dataclass_schema(LogSource), "type": ["object", "null"]},
             "key_column": {"type": ["string", "null"]},
             "notes": {"type": "array", "items": {"type": "string"}},
             "steps": {

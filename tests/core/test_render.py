@@ -165,3 +165,38 @@ def test_empty_inputs_render():
     assert reports_text([]) == "no columns"
     assert "no columns" in reports_html([])
     assert reports_frame([]).empty
+
+
+def test_drift_report_renders_counts_table_and_groups():
+    from datemend.core.replay import CellGroup, ColumnDrift, MissingColumn, ReplayReport
+
+    group = CellGroup(shape="9999-99-99", count=3, examples=("2026-02-30",), rows=(7,))
+    rep = ReplayReport(
+        file="roster_2026-11.csv",
+        rows=40,
+        columns=(
+            ColumnDrift(
+                "Joined",
+                matched=30,
+                blank=5,
+                manual=1,
+                unmatched=3,
+                ambiguous=1,
+                groups=(group,),
+                new_tokens=(("TBC", 2),),
+            ),
+        ),
+        missing=(MissingColumn("Born", likely="Date of birth"),),
+        added=("Locker",),
+    )
+    text = replay_text(rep)
+    lines = text.splitlines()
+    # the counts row: column, read, read by none, ambiguous, blank, by hand, new tokens, far off
+    assert ["Joined", "30", "3", "1", "5", "1", "2", "0"] in [ln.split() for ln in lines]
+    assert any(ln.split()[:3] == ["9999-99-99", "3", "2026-02-30"] for ln in lines)
+    assert 'Column "Born" is missing (likely now "Date of birth").' in text
+    assert 'New columns: "Locker".' in text
+    assert lines[0].startswith("Replay on roster_2026-11.csv")
+    out = replay_html(rep)
+    assert out.count("<table") == 3  # counts, unread groups, new tokens
+    assert "Date of birth" in out

@@ -333,8 +333,109 @@ def _replay_lines(report: Any) -> list[str] | None:
     return None
 
 
+def _is_drift(report: Any) -> bool:
+    cols = getattr(report, "columns", None)
+    return isinstance(cols, tuple | list) and all(
+        hasattr(c, "matched") and hasattr(c, "unmatched") for c in cols
+    )
+
+
+_DRIFT_HEADERS = ("column", "read", "read by none", "ambiguous", "blank", "by hand",
+                  "new tokens", "far off")  # fmt: skip
+_GROUP_HEADERS = ("shape", "cells", "examples", "first row", "the engine would now suggest")
+
+
+def _drift_parts(r: Any) -> list[tuple[str, Any]]:
+    """(title, sentences or (headers, rows)) pieces of a drift report, in reading order."""
+    lines = _replay_lines(r) or []
+    parts: list[tuple[str, Any]] = [("", lines[:2])]
+    rows = [
+        [c.column, c.matched, c.unmatched, c.ambiguous, c.blank, c.manual,
+         sum(n for _, n in c.new_tokens), c.out_of_range]
+        for c in r.columns
+    ]  # fmt: skip
+    if rows:
+        parts.append(("date columns", (_DRIFT_HEADERS, rows)))
+    for c in r.columns:
+        if c.groups:
+            parts.append(
+                (
+                    f'"{c.column}": cells no recorded pattern reads',
+                    (
+                        _GROUP_HEADERS,
+                        [
+                            [
+                                g.shape,
+                                g.count,
+                                ", ".join(g.examples),
+                                g.rows[0] if g.rows else "",
+                                g.suggestion or "",
+                            ]
+                            for g in c.groups
+                        ],
+                    ),
+                )
+            )
+        if c.new_tokens:
+            parts.append(
+                (
+                    f'"{c.column}": new placeholder-looking tokens',
+                    (("token", "cells"), [[t, n] for t, n in c.new_tokens]),
+                )
+            )
+        if c.out_of_range:
+            lo, hi = c.source_range or ("?", "?")
+            parts.append(
+                (
+                    f'"{c.column}": {c.out_of_range} values far outside {lo[:10]} to {hi[:10]}',
+                    (("row", "raw", "read as"), [list(e) for e in c.out_of_range_examples]),
+                )
+            )
+    other = []
+    for m in getattr(r, "missing", ()):
+        likely = f' (likely now "{m.likely}")' if getattr(m, "likely", None) else ""
+        other.append(f'Column "{m.name}" is missing{likely}.')
+    if getattr(r, "added", ()):
+        other.append("New columns: " + ", ".join(f'"{a}"' for a in r.added) + ".")
+    if getattr(r, "moved", ()):
+        other.append("Columns in another place: " + ", ".join(f'"{m}"' for m in r.moved) + ".")
+    for k in getattr(r, "lost_keys", ()):
+        other.append(f'Hand-set cell of step {k.step} ("{k.column}", key "{k.key}"): {k.why}.')
+    other.extend(f"Note: {w}" for w in getattr(r, "warnings", ()))
+    if other:
+        parts.append(("structure and notes", other))
+    return parts
+
+
+def _parts_text(parts: list[tuple[str, Any]]) -> str:
+    out: list[str] = []
+    for title, content in parts:
+        if title:
+            out.append(f"\n{title}:")
+        if isinstance(content, list):
+            out.extend(content if not title else [f"  {s}" for s in content])
+        else:
+            out.append(text_table(*content))
+    return "\n".join(out)
+
+
+def _parts_html(parts: list[tuple[str, Any]]) -> str:
+    out = []
+    for title, content in parts:
+        if title:
+            out.append(f"<h4>{html.escape(title)}</h4>")
+        if isinstance(content, list):
+            out.append("<ul>" + "".join(f"<li>{html.escape(s)}</li>" for s in content) + "</ul>")
+        else:
+            out.append(_html_table(*content))
+    return "".join(out)
+
+
 def replay_text(report: Any) -> str:
-    """A replay (drift) report as text: its own sentences first, then every detail it holds."""
+    """A replay (drift) report as text: headline, a table of counts per date column, then the
+    cells no recorded pattern reads, new tokens, far-off values and structural changes."""
+    if _is_drift(report):
+        return _parts_text(_drift_parts(report))
     out = ["Replay report"]
     lines = _replay_lines(report)
     if lines:
@@ -345,7 +446,9 @@ def replay_text(report: Any) -> str:
 
 
 def replay_html(report: Any) -> str:
-    """A replay (drift) report as HTML."""
+    """A replay (drift) report as HTML, laid out as ``replay_text``."""
+    if _is_drift(report):
+        return "<h3>Replay report</h3>" + _parts_html(_drift_parts(report))
     parts = ["<h3>Replay report</h3>"]
     lines = _replay_lines(report)
     if lines:

@@ -1,0 +1,133 @@
+"""Speed: one large mixed date column, datemend scan + parse against pandas format="mixed".
+
+The column (seeded) is mostly M/D/YYYY text, with some ISO 8601 dates, some spreadsheet serials
+(number cells, 1900 system) and some junk — a merged monthly export. Both systems run in the
+same process on the same values; the ratio is what counts (goal, issue 3: datemend ≥ 8× faster).
+Peak memory of the datemend run is measured with tracemalloc in a separate pass (tracing slows
+the run, so it is not timed), plus the process's peak resident size.
+
+    python benchmarks/speed.py [--rows 1000000] [--seed S] [--no-memory] [--skip-pandas]
+"""
+
+from __future__ import annotations
+
+import argparse
+import gc
+import resource
+import sys
+import time
+import tracemalloc
+import warnings
+
+import numpy as np
+import pandas as pd
+
+from datemend.core.clean import CellState
+from datemend.core.infer import scan_column
+from datemend.core.parse import parse_column
+from datemend.core.table import CellKind, RawColumn, SourceFacts
+
+JUNK = np.array(["n/a", "unknown", "-", "TBD", "see notes", "?", "pending", "lost"], dtype=object)
+SHARES = {"mdy": 0.85, "iso": 0.08, "serial": 0.05, "junk": 0.02}
+
+
+def make_column(rows: int, seed: int) -> tuple[RawColumn, np.ndarray]:
+    """The mixed column and its truth (datetime64[D], NaT for junk)."""
+    rng = np.random.default_rng(seed)
+    start = np.datetime64("1950-01-01")
+    days = rng.integers(0, (np.datetime64("2030-12-31") - start).astype(int), rows)
+    truth = (start + days).astype("datetime64[D]")
+    which = rng.choice(4, size=rows, p=list(SHARES.values()))
+    # M/D/YYYY without leading zeros, built vectorised from the parts
+    ymd = pd.DatetimeIndex(truth.astype("datetime64[s]"))
+    years = ymd.year.astype(str).to_numpy(dtype=object)
+    months = ymd.month.astype(str).to_numpy(dtype=object)
+    mdays = ymd.day.astype(str).to_numpy(dtype=object)
+    mdy = months + "/" + mdays + "/" + years
+    iso = np.datetime_as_string(truth, unit="D").astype(object)
+    serial = (truth - np.datetime64("1899-12-30")).astype(np.int64)
+    values = np.empty(rows, dtype=object)
+    kinds = np.full(rows, CellKind.TEXT, dtype=np.int8)
+    values[which == 0] = mdy[which == 0]
+    values[which == 1] = iso[which == 1]
+    sel = which == 2
+    values[sel] = serial[sel].tolist()
+    kinds[sel] = CellKind.INT
+    sel = which == 3
+    values[sel] = JUNK[rng.integers(0, len(JUNK), int(sel.sum()))]
+    truth = truth.copy()
+    truth[sel] = np.datetime64("NaT")
+    return RawColumn("joined", values, kinds), truth
+
+
+def run_datemend(col: RawColumn, facts: SourceFacts):  # type: ignore[no-untyped-def]
+    report = scan_column(col, facts)
+    assert report.best is not None, "the scan gave no suggestion"
+    return report, parse_column(col, report.best.spec, facts)
+
+
+def run_pandas(col: RawColumn) -> pd.Series:
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        return pd.to_datetime(pd.Series(col.values, dtype=object), format="mixed", errors="coerce")
+
+
+def main(argv: list[str] | None = None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--rows", type=int, default=1_000_000)
+    ap.add_argument("--seed", type=int, default=20261201)
+    ap.add_argument("--repeat", type=int, default=1, help="best of N timed runs")
+    ap.add_argument("--no-memory", action="store_true", help="skip the tracemalloc pass")
+    ap.add_argument("--skip-pandas", action="store_true")
+    args = ap.parse_args(argv)
+
+    col, truth = make_column(args.rows, args.seed)
+    facts = SourceFacts(format="xlsx")
+    shares = " · ".join(f"{k} {v:.0%}" for k, v in SHARES.items())
+    print(f"rows: {args.rows:,} ({shares}), seed {args.seed}")
+
+    best = float("inf")
+    for _ in range(args.repeat):
+        gc.collect()
+        t0 = time.perf_counter()
+        report, parsed = run_datemend(col, facts)
+        best = min(best, time.perf_counter() - t0)
+    assert report.best is not None
+    ok = parsed.state == CellState.PARSED
+    got_days = parsed.value.astype("datetime64[D]")
+    wrong = int(np.sum(ok & (np.isnat(truth) | (got_days != truth))))
+    counts = parsed.counts()
+    print(f"datemend scan + parse: {best:8.3f} s  ({1e6 * best / args.rows:.2f} µs a value)")
+    print(f"  best suggestion: {report.best.label}")
+    print(f"  states: {counts}; silently wrong against the truth: {wrong}")
+
+    if not args.skip_pandas:
+        gc.collect()
+        t0 = time.perf_counter()
+        got = run_pandas(col)
+        pt = time.perf_counter() - t0
+        pd_days = got.to_numpy(dtype="datetime64[us]").astype("datetime64[D]")
+        have = ~np.isnat(pd_days)
+        pd_wrong = int(np.sum(have & (np.isnat(truth) | (pd_days != truth))))
+        pd_right = int(np.sum(have & (pd_days == truth)))
+        print(f"pandas format='mixed': {pt:8.3f} s  ({1e6 * pt / args.rows:.2f} µs a value)")
+        print(
+            f"  right {pd_right:,}, silently wrong {pd_wrong:,}, unresolved {int((~have).sum()):,}"
+        )
+        print(f"ratio: datemend is {pt / best:.1f}× the speed of pandas format='mixed' (goal ≥ 8×)")
+
+    if not args.no_memory:
+        gc.collect()
+        tracemalloc.start()
+        run_datemend(col, facts)
+        _, peak = tracemalloc.get_traced_memory()
+        tracemalloc.stop()
+        print(f"datemend peak traced memory: {peak / 2**20:,.1f} MiB (tracemalloc, input excluded)")
+    rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+    scale = 1 if sys.platform == "darwin" else 1024  # ru_maxrss is KiB on Linux, bytes on macOS
+    print(f"process peak resident size: {rss * scale / 2**20:,.1f} MiB (whole run, both systems)")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -9,9 +9,7 @@ business-day end) are documented there. Each step reads columns by output name t
 
 from __future__ import annotations
 
-import dataclasses
 import datetime as _dt
-import typing
 from dataclasses import dataclass, field
 from typing import Any, ClassVar, Literal
 
@@ -31,7 +29,9 @@ from .spans import (
     span_days,
     span_weeks,
 )
+from .step_forms import parameters, preview
 from .steps import ApplyContext, FieldValueError, Step, register_step
+from .zones import check_zone, convert_zone
 
 __all__ = [
     "AGE_CAUTION",
@@ -40,6 +40,7 @@ __all__ = [
     "Age",
     "BusinessDays",
     "CalendarPart",
+    "ConvertZone",
     "DeriveError",
     "DerivedStep",
     "Span",
@@ -96,9 +97,13 @@ def _as_of_column() -> Any:
     return field(default=None, metadata=_p("…or as of the date in column", "column-or-none"))
 
 
-def _check_as_of(as_of: str | None, as_of_column: str | None) -> None:
-    if (as_of is None) == (as_of_column is None):
-        raise FieldValueError("as_of", 'give either "as_of" or "as_of_column", not both or none')
+def _check_as_of(step: Step, as_of: str | None, as_of_column: str | None) -> None:
+    """A reference column, when given, wins: ``as_of`` is then stored as None."""
+    if as_of_column is not None:
+        object.__setattr__(step, "as_of", None)
+        return
+    if as_of is None:
+        raise FieldValueError("as_of", 'give a reference date in "as_of" or "as_of_column"')
     if as_of is not None and as_of != REPLAY_DAY:
         try:
             iso_date(as_of, "as_of")
@@ -238,7 +243,7 @@ class Age(DerivedStep):
     output: str = _output()
 
     def __post_init__(self) -> None:
-        _check_as_of(self.as_of, self.as_of_column)
+        _check_as_of(self, self.as_of, self.as_of_column)
 
     def columns_read(self) -> tuple[str, ...]:
         return (self.birth,) if self.as_of_column is None else (self.birth, self.as_of_column)
@@ -273,7 +278,7 @@ class Tenure(DerivedStep):
     output: str = _output()
 
     def __post_init__(self) -> None:
-        _check_as_of(self.as_of, self.as_of_column)
+        _check_as_of(self, self.as_of, self.as_of_column)
 
     def columns_read(self) -> tuple[str, ...]:
         return (self.start,) if self.as_of_column is None else (self.start, self.as_of_column)
@@ -440,78 +445,45 @@ class BusinessDays(DerivedStep):
         return values, warning
 
 
-# ---------------------------------------------------------------- dialog support
+@register_step
+@dataclass(frozen=True)
+class ConvertZone(Step):
+    """Move a date-time column's values to one IANA time zone."""
 
+    kind: ClassVar[str] = "convert-zone"
+    title: ClassVar[str] = "Move times to a time zone"
+    column: str = field(
+        metadata={"label": "Date column", "param": "column", "schema": {"minLength": 1}}
+    )
+    zone: str = field(metadata={"label": "Move to zone (IANA name)", "param": "zone"})
+    naive_zone: str | None = field(
+        default=None,
+        metadata={
+            "label": "Times with no offset were written in zone",
+            "param": "zone-or-none",
+            "help": "Empty: times with no offset are left as they are.",
+        },
+    )
 
-def parameters(cls: type[Step]) -> list[dict[str, Any]]:
-    """The parameters of a step kind for a generic dialog: name, label, type, default, required,
-    choices (for a fixed set) and help. Types: "column", "column-or-none", "output", "as-of",
-    "text", "int", "bool", "choice", "locale", "country", "subdivision", "dates"."""
-    hints = typing.get_type_hints(cls)
-    out = []
-    for f in dataclasses.fields(cls):  # type: ignore[arg-type]
-        meta = f.metadata or {}
-        hint = hints[f.name]
-        choices: tuple[Any, ...] = ()
-        if typing.get_origin(hint) is Literal:
-            choices = typing.get_args(hint)
-        kind = meta.get("param") or (
-            "choice" if choices else {bool: "bool", int: "int"}.get(hint, "text")
+    def __post_init__(self) -> None:
+        check_zone(self.zone, "zone")
+        if self.naive_zone is not None:
+            check_zone(self.naive_zone, "naive_zone")
+
+    def columns_read(self) -> tuple[str, ...]:
+        return (self.column,)
+
+    def describe(self) -> str:
+        naive = (
+            f"times with no offset taken as {self.naive_zone}"
+            if self.naive_zone
+            else "times with no offset left as they are"
         )
-        required = f.default is dataclasses.MISSING and f.default_factory is dataclasses.MISSING
-        out.append(
-            {
-                "name": f.name,
-                "label": meta.get("label", f.name.replace("_", " ")),
-                "type": kind,
-                "default": None if required else f.default,
-                "required": required,
-                "choices": list(choices),
-                "help": meta.get("help", ""),
-                "schema": meta.get("schema", {}),
-            }
-        )
-    return out
+        return f'Move the times of "{self.column}" to {self.zone} ({naive}).'
 
-
-def _head(table: CleanTable, n: int) -> CleanTable:
-    rows = np.arange(min(n, table.raw.n_rows))
-    parsed = {
-        k: pc.evolve(
-            **{
-                a: getattr(pc, a)[rows]
-                for a in ("value", "offset_min", "has_time", "state", "pattern", "reason")
-            }
-        )
-        for k, pc in table.parsed.items()
-    }
-    derived = {
-        k: dataclasses.replace(dc, values=dc.values.iloc[rows].reset_index(drop=True))
-        for k, dc in table.derived.items()
-    }
-    hits = {k: v[rows] for k, v in table.rule_hits.items()}
-    return table.evolve(raw=table.raw.take(rows), parsed=parsed, derived=derived, rule_hits=hits)
-
-
-def preview(
-    step: Step, clean: CleanTable, n: int = 10, ctx: ApplyContext | None = None
-) -> pd.DataFrame:
-    """The first ``n`` rows of the columns ``step`` reads and of what it adds (a derived column,
-    or a rule's True/False column), for a dialog; warnings go in ``DataFrame.attrs["warnings"]``."""
-    small = _head(clean, n)
-    after = step.apply(small, ctx or ApplyContext())
-    cols: dict[str, pd.Series] = {}
-    for name in step.columns_read():
-        try:
-            cols[name] = date_series(small, name)
-        except DeriveError:
-            continue
-    for name, dc in after.derived.items():
-        if small.derived.get(name) is not dc:
-            cols[name] = dc.values
-    for label, mask in after.rule_hits.items():
-        if small.rule_hits.get(label) is not mask:
-            cols[label] = pd.Series(mask, dtype="boolean")
-    out = pd.DataFrame(cols)
-    out.attrs["warnings"] = [w for w in after.warnings if w not in small.warnings]
-    return out
+    def apply(self, table: CleanTable, ctx: ApplyContext) -> CleanTable:
+        for pc in table.parsed.values():
+            if pc.output_name == self.column:
+                return table.with_parsed(convert_zone(pc, self.zone, self.naive_zone))
+        text = f'"{self.column}" is not read as dates, so moving it to {self.zone} did nothing.'
+        return table if text in table.warnings else table.with_warning(text)

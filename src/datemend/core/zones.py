@@ -9,18 +9,16 @@ cell becomes FAILED or AMBIGUOUS with the reason, so no time is silently shifted
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
 from functools import lru_cache
-from typing import ClassVar
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError, available_timezones
 
 import numpy as np
 import pandas as pd
 
-from .clean import NAIVE, CellState, CleanTable, ParsedColumn
-from .steps import ApplyContext, FieldValueError, Step, register_step
+from .clean import NAIVE, CellState, ParsedColumn
+from .steps import FieldValueError
 
-__all__ = ["ConvertZone", "convert_zone"]
+__all__ = ["check_zone", "convert_zone"]
 
 _NAT = np.datetime64("NaT", "us")
 # Keep a day clear of the calendar's ends so no conversion leaves years 1–9999.
@@ -33,7 +31,7 @@ def _zone_names() -> frozenset[str]:
     return frozenset(available_timezones())
 
 
-def _zone(name: str, field_name: str) -> ZoneInfo:
+def check_zone(name: str, field_name: str) -> ZoneInfo:
     try:
         if name not in _zone_names():
             raise ZoneInfoNotFoundError(name)
@@ -47,7 +45,7 @@ def _zone(name: str, field_name: str) -> ZoneInfo:
 def convert_zone(col: ParsedColumn, zone: str, naive_zone: str | None = None) -> ParsedColumn:
     """``col`` with its aware values (and, with ``naive_zone``, its naive ones placed in that
     zone) moved to ``zone``. Cells the move cannot be sure of become FAILED/AMBIGUOUS."""
-    to = _zone(zone, "zone")
+    to = check_zone(zone, "zone")
     usable = (col.state == CellState.PARSED) | (col.state == CellState.MANUAL)
     usable &= ~np.isnat(col.value)
     value = col.value.copy()
@@ -58,7 +56,7 @@ def convert_zone(col: ParsedColumn, zone: str, naive_zone: str | None = None) ->
     utc = np.full(len(col), _NAT)
     utc[aware] = value[aware] - offset[aware].astype("timedelta64[m]")
     if naive_zone is not None:
-        frm = _zone(naive_zone, "naive_zone")
+        frm = check_zone(naive_zone, "naive_zone")
         naive = usable & (offset == NAIVE) & (value > _LO) & (value < _HI)
         wall = pd.Series(value[naive])
         loc = wall.dt.tz_localize(frm, ambiguous="NaT", nonexistent="NaT")
@@ -124,47 +122,3 @@ def _mark(value, offset, state, reason, rows, new_state, why) -> None:  # type: 
     offset[rows] = NAIVE
     state[rows] = new_state
     reason[rows] = why
-
-
-@register_step
-@dataclass(frozen=True)
-class ConvertZone(Step):
-    """Move a date-time column's values to one IANA time zone."""
-
-    kind: ClassVar[str] = "convert-zone"
-    title: ClassVar[str] = "Move times to a time zone"
-    column: str = field(
-        metadata={"label": "Date column", "param": "column", "schema": {"minLength": 1}}
-    )
-    zone: str = field(metadata={"label": "Move to zone (IANA name)", "param": "zone"})
-    naive_zone: str | None = field(
-        default=None,
-        metadata={
-            "label": "Times with no offset were written in zone",
-            "param": "zone-or-none",
-            "help": "Empty: times with no offset are left as they are.",
-        },
-    )
-
-    def __post_init__(self) -> None:
-        _zone(self.zone, "zone")
-        if self.naive_zone is not None:
-            _zone(self.naive_zone, "naive_zone")
-
-    def columns_read(self) -> tuple[str, ...]:
-        return (self.column,)
-
-    def describe(self) -> str:
-        naive = (
-            f"times with no offset taken as {self.naive_zone}"
-            if self.naive_zone
-            else "times with no offset left as they are"
-        )
-        return f'Move the times of "{self.column}" to {self.zone} ({naive}).'
-
-    def apply(self, table: CleanTable, ctx: ApplyContext) -> CleanTable:
-        for pc in table.parsed.values():
-            if pc.output_name == self.column:
-                return table.with_parsed(convert_zone(pc, self.zone, self.naive_zone))
-        text = f'"{self.column}" is not read as dates, so moving it to {self.zone} did nothing.'
-        return table if text in table.warnings else table.with_warning(text)

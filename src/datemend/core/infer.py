@@ -1,19 +1,48 @@
-"""Scanning: rank candidate ParseSpecs for each column, with evidence.
+"""Scanning: find the date columns and rank ways to parse each, with the evidence behind them.
 
-PLACEHOLDER until the date engine lands; the signatures are the contract.
+A scan reads a deterministic sample of each column's distinct values (all of them up to
+``SAMPLE``) with every pattern at once (the *census*), then makes the column-wide decisions:
+
+- which patterns the column uses (numbers compete: serial, epoch, compact digits; the reading
+  whose dates are plausible wins — see ``evidence.py``),
+- day/month order from evidence (a first field above 12 can only be a day), else from the stated
+  preference (and the report says so), else left undecided so those cells stay AMBIGUOUS,
+- the two-digit-year rule (never silently future dates in a column of past events),
+- the spreadsheet date system (from the workbook) and zone handling.
+
+Ranking: the first suggestion is the reading the evidence supports, with ambiguity left visible
+when the data cannot decide; alternatives (the other day order, the other century rule, UTC
+normalisation, another numeric reading) follow by score = coverage × how much of the reading
+rests on a guess.
 """
 
 from __future__ import annotations
 
+import datetime as _dt
+
+import numpy as np
 import pandas as pd
 
-from .parse import parse_column
+from .evidence import (
+    Census,
+    build_suggestion,
+    census_of,
+    choose_patterns,
+    decide_century,
+    decide_day_order,
+    decide_zone,
+    likeness_of,
+    placeholders_of,
+)
 from .progress import Progress
-from .report import ColumnReport, Suggestion
+from .report import ColumnReport
 from .spec import ParseSpec
-from .table import RawColumn, RawTable, SourceFacts
+from .table import CellKind, RawColumn, RawTable, SourceFacts
 
-__all__ = ["scan", "scan_column"]
+__all__ = ["SAMPLE", "scan", "scan_column"]
+
+#: Distinct values read by a scan per column (the rest are parsed only once a spec is chosen).
+SAMPLE = 20_000
 
 
 def scan_column(
@@ -24,28 +53,160 @@ def scan_column(
     reference_year: int | None = None,
 ) -> ColumnReport:
     """Rank ways to parse one column. ``prefer_day_order`` ("dmy"/"mdy") decides only where the
-    data cannot, and the report then says it was a preference."""
-    spec = ParseSpec(patterns=("iso-date",))
-    parsed = parse_column(column, spec, facts)
-    counts = parsed.counts()
-    total = len(column) - counts["blank"]
-    likeness = counts["parsed"] / total if total else 0.0
-    sug = Suggestion(
-        spec=spec,
-        label="ISO 8601 100%",
-        score=likeness,
-        parsed=counts["parsed"],
-        total=total,
-        failed=counts["failed"],
+    data cannot, and the report then says it was a preference. ``reference_year`` (default: this
+    year) is the latest year a past-event column may hold."""
+    if prefer_day_order not in (None, "dmy", "mdy"):
+        raise ValueError(f'prefer_day_order must be "dmy", "mdy" or None, not {prefer_day_order!r}')
+    facts = facts or SourceFacts()
+    ref_year = reference_year or _dt.date.today().year
+    kinds = {k.name.lower(): int(c) for k, c in zip(CellKind, _kind_counts(column)) if c}
+    census = census_of(column, facts, sample=SAMPLE)
+    placeholders = placeholders_of(census)
+    census.blank_tokens = tuple(t for t, _ in placeholders)
+    patterns = choose_patterns(census, ref_year)
+    notes: list[str] = []
+    decisions: dict[str, str] = {}
+    day_order, why_order, warn_order = decide_day_order(census, patterns, prefer_day_order)
+    decisions["day_order"] = why_order[0]
+    notes += why_order[1:]
+    century, pivot, why_century = decide_century(census, patterns, column.name, ref_year)
+    decisions["century"] = why_century[0]
+    notes += why_century[1:]
+    if facts.format in ("xlsx", "xlsm", "ods", "xls"):
+        decisions["date_system"] = "evidence"
+        sys_note = (
+            f"spreadsheet serials read in the {facts.date_system} date system of the workbook"
+        )
+    else:
+        decisions["date_system"] = "default"
+        sys_note = f"spreadsheet serials, if any, read in the {facts.date_system} date system"
+    if "serial" in patterns:
+        notes.append(sys_note)
+    zone_warn = decide_zone(census, patterns)
+    decisions["zone"] = "default"
+    base = ParseSpec(
+        patterns=tuple(patterns),
+        day_order=day_order,
+        century=century,
+        pivot_year=pivot,
+        date_system=facts.date_system,
+        blank_tokens=census.blank_tokens,
+        locales=census.locales,
     )
+    warnings = [*warn_order, *zone_warn, *census.notes]
+    candidates = [(base, 1.0, dict(decisions), notes, warnings)]
+    candidates += _alternatives(base, census, decisions, prefer_day_order, ref_year)
+    suggestions = [
+        build_suggestion(census, spec, factor, dec, ev, warn)
+        for spec, factor, dec, ev, warn in candidates
+    ]
+    first, rest = suggestions[0], sorted(suggestions[1:], key=lambda s: -s.score)
+    ranked = [first, *rest] if first.parsed or first.ambiguous else [*rest, first]
+    ranked = _with_disagreements(census, ranked)
+    best = ranked[0] if ranked else None
+    likeness = likeness_of(census, best, column.name, ref_year) if best else 0.0
+    summary = _summary(likeness, best)
     return ColumnReport(
         column=column.name,
         n_rows=len(column),
         likeness=likeness,
         is_date=likeness >= 0.5,
-        blank=counts["blank"],
-        suggestions=(sug,),
+        blank=int(census.empty),
+        kinds=kinds,
+        placeholders=tuple(placeholders),
+        suggestions=tuple(ranked),
+        summary=summary,
     )
+
+
+def _kind_counts(column: RawColumn) -> np.ndarray:
+    return np.bincount(column.kinds.astype(np.int64), minlength=len(CellKind))
+
+
+def _alternatives(
+    base: ParseSpec,
+    census: Census,
+    decisions: dict[str, str],
+    prefer: str | None,
+    ref_year: int,
+) -> list[tuple[ParseSpec, float, dict[str, str], list[str], list[str]]]:
+    out = []
+    if census.order_ambiguous and decisions["day_order"] != "evidence":
+        for order in ("dmy", "mdy"):
+            if order == base.day_order:
+                continue
+            dec = dict(decisions, day_order="preference" if order == prefer else "undecided")
+            said = "day first" if order == "dmy" else "month first"
+            factor = 0.9 if order == prefer else 0.5
+            out.append(
+                (
+                    _evolve(base, day_order=order),
+                    factor,
+                    dec,
+                    [f"reads the values that fit either way {said}: a guess, not evidence"],
+                    [],
+                )
+            )
+    if census.two_digit_years:
+        if base.century == "posix":
+            alt = _evolve(base, century="past", pivot_year=ref_year)
+            note = f"two-digit years put in the latest century not after {ref_year}"
+        else:
+            alt = _evolve(base, century="posix", pivot_year=None)
+            note = "two-digit years by the POSIX rule (69–99 → 1900s, 00–68 → 2000s)"
+        out.append((alt, 0.8, dict(decisions, century="preference"), [note], []))
+    if census.aware:
+        out.append(
+            (
+                _evolve(base, zone="UTC"),
+                0.95,
+                dict(decisions, zone="preference"),
+                ["values with a UTC offset moved to UTC (naive values stay as written)"],
+                [],
+            )
+        )
+    for swap in census.digit_alternatives:
+        pats = tuple(swap.get(p, p) for p in base.patterns)
+        out.append(
+            (
+                _evolve(base, patterns=pats),
+                0.6,
+                dict(decisions),
+                ["numbers read another way: " + ", ".join(f"{a} → {b}" for a, b in swap.items())],
+                [],
+            )
+        )
+    return out
+
+
+def _evolve(spec: ParseSpec, **changes: object) -> ParseSpec:
+    d = spec.to_dict()
+    d.update(changes)
+    return ParseSpec.from_dict(d)
+
+
+def _with_disagreements(census: Census, ranked: list) -> list:
+    from dataclasses import replace
+
+    from .evidence import disagreements
+
+    out = []
+    for i, s in enumerate(ranked):
+        if i + 1 < len(ranked):
+            s = replace(s, disagreements=disagreements(census, s.spec, ranked[i + 1].spec))
+        out.append(s)
+    return out
+
+
+def _summary(likeness: float, best: object) -> str:
+    if best is None:
+        return f"{likeness:.0%} date-like · no pattern reads these values"
+    parts = [f"{likeness:.0%} date-like", best.label, f"{best.parsed}/{best.total} parsed"]
+    if best.failed:
+        parts.append(f"{best.failed} failed")
+    if best.ambiguous:
+        parts.append(f"{best.ambiguous} ambiguous")
+    return " · ".join(parts)
 
 
 def scan(
@@ -67,4 +228,6 @@ def scan(
                 col, table.facts, prefer_day_order=prefer_day_order, reference_year=reference_year
             )
         )
+    if progress is not None:
+        progress.report(len(table.columns), len(table.columns), "scan done")
     return reports

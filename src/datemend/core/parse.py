@@ -1,39 +1,347 @@
-"""Vectorised parsing of a column with a ParseSpec.
+"""Vectorised parsing of a column with a ParseSpec: one value, state, pattern and reason per cell.
 
-PLACEHOLDER: ISO 8601 calendar dates only, until the date engine lands. The signature is the
-contract the rest of the code relies on.
+The pipeline works on distinct values, not cells: the column's texts are factorised, each
+distinct text is normalised (case, spaces, quotes, brackets, ordinal suffixes, filler words such
+as "de" or "of"), then the spec's patterns are tried in order, each as one RE2 regex over all
+texts still unread (``fields.read_pattern``); the first pattern that reads a text validly wins,
+and a text no pattern reads keeps the reason given by the first pattern whose shape it had.
+Results go back to the cells through the factorisation codes. Real date cells from a workbook
+are kept as they are.
 """
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
-from .clean import CellState, ParsedColumn
+from .clean import NAIVE, CellState, ParsedColumn
+from .fields import Reading, read_pattern
+from .names import ORDINAL_SUFFIX_RE
+from .patterns import label, pattern
 from .spec import ParseSpec
 from .table import CellKind, RawColumn, SourceFacts
 
-__all__ = ["parse_column"]
+__all__ = [
+    "TextResult",
+    "iso_text",
+    "normalise",
+    "parse_column",
+    "parse_series",
+    "parse_texts",
+]
+
+#: Pattern id given to real date cells of a workbook (kept as they are).
+DATE_CELL = "date-cell"
+
+_SPACES = r"[\t\n\r\f\v \x{00a0}\x{1680}\x{2000}-\x{200b}\x{202f}\x{205f}\x{3000}\x{feff}]+"
+_EDGE = " \"'`“”‘’„«»‹›()[]{}<>,;"
+_FILLER = r"(^| )(?:de|del|of|the|le|el|den|der|il|lo|op|em)( |$)"
+_TIME_ONLY = r"^\d{1,2}:\d{2}(?::\d{2}(?:[.,]\d+)?)?(?: ?[ap]m)?$"
+
+
+def normalise(texts: pa.Array) -> pa.Array:
+    """Lower-case, single-spaced text with the noise of exports removed (see module doc)."""
+    t = pc.utf8_lower(texts)
+    t = pc.replace_substring_regex(t, _SPACES, " ")
+    t = pc.utf8_trim(t, _EDGE)
+    t = pc.utf8_rtrim(t, ".")
+    t = pc.utf8_trim(t, _EDGE)
+    # a.m. / p.m. / a. m. → am / pm
+    t = pc.replace_substring_regex(t, r"([ \d])([ap])(?:\.|\. )?m\.?( |$)", r"\1\2m\3")
+    t = pc.replace_substring_regex(t, ORDINAL_SUFFIX_RE, r"\1\2")
+    t = pc.replace_substring_regex(t, r"(\d)\. ", r"\1 ")  # German ordinal dot: "12. März"
+    t = pc.replace_substring_regex(t, r"(\pL)\.", r"\1 ")  # abbreviation dots: "févr."
+    t = pc.replace_substring_regex(t, r"(\pL),", r"\1 ")
+    t = pc.replace_substring_regex(t, r",( |$)", r" ")
+    for _ in range(2):
+        t = pc.replace_substring_regex(t, _FILLER, r"\1")
+    t = pc.replace_substring_regex(t, "  +", " ")
+    return pc.utf8_trim(t, " ")
+
+
+@dataclass
+class TextResult:
+    """Per distinct text: the parse result (arrays of equal length)."""
+
+    value: np.ndarray  # datetime64[us]
+    offset: np.ndarray
+    has_time: np.ndarray
+    state: np.ndarray
+    pattern: np.ndarray
+    reason: np.ndarray
+    order: np.ndarray  # evidence of day/month order (fields.EV_*), for the scan
+    two_digit: np.ndarray
+    year: np.ndarray
+
+
+def _empty_result(n: int) -> TextResult:
+    return TextResult(
+        value=np.full(n, np.datetime64("NaT"), dtype="datetime64[us]"),
+        offset=np.full(n, NAIVE, dtype=np.int32),
+        has_time=np.zeros(n, dtype=bool),
+        state=np.full(n, CellState.FAILED, dtype=np.int8),
+        pattern=np.full(n, -1, dtype=np.int16),
+        reason=np.full(n, None, dtype=object),
+        order=np.zeros(n, dtype=np.int8),
+        two_digit=np.zeros(n, dtype=bool),
+        year=np.zeros(n, dtype=np.int64),
+    )
+
+
+def _as_array(texts: object) -> pa.Array:
+    if isinstance(texts, pa.ChunkedArray):
+        texts = texts.combine_chunks()
+    if isinstance(texts, pa.Array):
+        return texts.cast(pa.string())
+    return pa.array(np.asarray(texts, dtype=object), type=pa.string(), from_pandas=True)
+
+
+def parse_texts(texts: object, spec: ParseSpec) -> TextResult:
+    """Parse texts (a sequence, numpy array or Arrow array of str) with ``spec``."""
+    raw = _as_array(texts)
+    n = len(raw)
+    out = _empty_result(n)
+    if n == 0:
+        return out
+    norm = normalise(raw)
+    tokens = pa.array(sorted({t.casefold().strip() for t in spec.blank_tokens}), pa.string())
+    folded = pc.utf8_trim_whitespace(pc.utf8_lower(raw))
+    blank = np.zeros(n, dtype=bool)
+    if len(tokens):
+        blank = pc.is_in(folded, value_set=tokens).to_numpy(zero_copy_only=False) | pc.is_in(
+            norm, value_set=tokens
+        ).to_numpy(zero_copy_only=False)
+        bi = np.flatnonzero(blank)
+        out.reason[bi] = [f'treated as blank: "{s}"' for s in raw.take(bi).to_pylist()]
+    nothing = pc.equal(pc.utf8_length(norm), 0).to_numpy(zero_copy_only=False) & ~blank
+    if nothing.any():
+        out.reason[nothing] = "treated as blank: nothing but spaces or punctuation"
+    blank |= nothing
+    out.state[blank] = CellState.BLANK
+    remaining = np.flatnonzero(~blank)
+    for k, pid in enumerate(spec.patterns):
+        if len(remaining) == 0:
+            break
+        if pid == DATE_CELL:
+            continue
+        r = read_pattern(pattern(pid), norm.take(pa.array(remaining)), spec)
+        _take(out, remaining, r, k)
+        done = r.ok | r.ambiguous
+        remaining = remaining[~done]
+    if len(remaining):
+        _explain_unread(out, remaining, norm, spec)
+    return out
+
+
+def _take(out: TextResult, rows: np.ndarray, r: Reading, k: int) -> None:
+    done = r.ok | r.ambiguous
+    at = rows[done]
+    out.value[at] = r.value[done].view("datetime64[us]")
+    out.offset[at] = r.offset[done]
+    out.has_time[at] = r.has_time[done]
+    out.state[at] = np.where(r.ok[done], CellState.PARSED, CellState.AMBIGUOUS)
+    out.pattern[at] = k
+    out.reason[at] = np.where(r.ok[done], None, r.reason[done])
+    amb_at = rows[r.ambiguous]
+    out.value[amb_at] = np.datetime64("NaT")
+    out.has_time[amb_at] = False
+    out.order[rows[r.matched]] = r.order[r.matched]
+    out.two_digit[rows[r.matched]] = r.two_digit[r.matched]
+    out.year[rows[r.matched]] = r.year[r.matched]
+    # Shape matched but the value is impossible: keep the first such reason.
+    failed = r.matched & ~done
+    first = failed & (out.pattern[rows] < 0)
+    out.reason[rows[first]] = r.reason[first]
+    out.pattern[rows[first]] = k
+
+
+def _explain_unread(out: TextResult, rows: np.ndarray, norm: pa.Array, spec: ParseSpec) -> None:
+    no_reason = rows[out.pattern[rows] < 0]
+    if len(no_reason) == 0:
+        return
+    sub = norm.take(pa.array(no_reason))
+    time_only = pc.match_substring_regex(sub, _TIME_ONLY).to_numpy(zero_copy_only=False)
+    labels = ", ".join(
+        dict.fromkeys(
+            label(p, day_order=spec.day_order, date_system=spec.date_system)
+            for p in spec.patterns
+            if p != DATE_CELL
+        )
+    )
+    generic = f"no pattern of this column reads it ({labels})" if labels else "no pattern given"
+    out.reason[no_reason] = np.where(time_only, "a time of day with no date", generic)
+
+
+def _apply_zone(res: TextResult, spec: ParseSpec) -> None:
+    """Move aware values (and naive ones, when ``naive_zone`` is set) to ``spec.zone``."""
+    if not spec.zone:
+        return
+    parsed = res.state == CellState.PARSED
+    aware = parsed & (res.offset != NAIVE)
+    utc = res.value.copy()
+    utc[aware] = res.value[aware] - res.offset[aware].astype("timedelta64[m]")
+    movable = aware.copy()
+    if spec.naive_zone:
+        naive = parsed & (res.offset == NAIVE)
+        if naive.any():
+            local = pd.Series(res.value[naive]).dt.tz_localize(
+                spec.naive_zone, ambiguous="NaT", nonexistent="NaT"
+            )
+            as_utc = local.dt.tz_convert("UTC").dt.tz_localize(None).to_numpy("datetime64[us]")
+            lost = np.isnat(as_utc)
+            idx = np.flatnonzero(naive)
+            utc[idx] = as_utc
+            bad = idx[lost]
+            res.state[bad] = CellState.FAILED
+            res.reason[bad] = (
+                f"this wall-clock time is skipped or repeated by a clock change in "
+                f"{spec.naive_zone}, so its instant is not known"
+            )
+            movable[idx[~lost]] = True
+    if not movable.any():
+        return
+    if spec.zone.upper() == "UTC":
+        res.value[movable] = utc[movable]
+        res.offset[movable] = 0
+    else:
+        conv = pd.Series(utc[movable]).dt.tz_localize("UTC").dt.tz_convert(spec.zone)
+        wall = conv.dt.tz_localize(None).to_numpy("datetime64[us]")
+        res.value[movable] = wall
+        res.offset[movable] = ((wall - utc[movable]) // np.timedelta64(1, "m")).astype(np.int32)
+    res.has_time[movable] = True
+
+
+def iso_text(value: np.ndarray, offset: np.ndarray, has_time: np.ndarray) -> np.ndarray:
+    """ISO 8601 text of parsed values: "2024-03-01", "2024-03-01T10:30:00",
+    "2024-03-01T10:30:00.250000+02:00"; "" where there is no value. Vectorised."""
+    n = len(value)
+    out = np.full(n, "", dtype=object)
+    ok = ~np.isnat(value)
+    if not ok.any():
+        return out
+    v = value[ok]
+    frac = (v - v.astype("datetime64[s]")).astype(np.int64) != 0
+    day = np.datetime_as_string(v, unit="D").astype(object)
+    sec = np.datetime_as_string(v, unit="s").astype(object)
+    usec = np.datetime_as_string(v, unit="us").astype(object)
+    timed = has_time[ok] | (offset[ok] != NAIVE)
+    text = np.where(timed, np.where(frac, usec, sec), day)
+    off = offset[ok].astype(np.int64)
+    aware = off != NAIVE
+    if aware.any():
+        a = np.abs(off[aware])
+        sign = np.where(off[aware] < 0, "-", "+")
+        hh = np.char.zfill((a // 60).astype(str), 2)
+        mm = np.char.zfill((a % 60).astype(str), 2)
+        suffix = np.char.add(np.char.add(np.char.add(sign, hh), ":"), mm).astype(object)
+        text[aware] = text[aware] + suffix
+    out[ok] = text
+    return out
+
+
+def _num_text(v: object) -> str:
+    if isinstance(v, float):
+        return str(int(v)) if v.is_integer() else repr(v)
+    return str(v)
 
 
 def parse_column(
     column: RawColumn, spec: ParseSpec, facts: SourceFacts | None = None
 ) -> ParsedColumn:
-    """Parse every cell of ``column`` with ``spec``; row-aligned result, one state per cell."""
+    """Parse every cell of ``column`` with ``spec``; row-aligned result, one state per cell.
+
+    ``facts`` is information only: the spec's ``date_system`` decides how serials are read.
+    """
     n = len(column)
-    out = ParsedColumn.empty(column.name, n)
-    text = column.text().str.strip()
-    blank = (column.kinds == CellKind.EMPTY) | text.str.casefold().isin(
-        [t.casefold() for t in spec.blank_tokens]
-    ).to_numpy()
-    values = pd.to_datetime(text, format="%Y-%m-%d", errors="coerce").to_numpy("datetime64[us]")
-    ok = ~np.isnat(values) & ~blank
-    state = np.where(blank, CellState.BLANK, np.where(ok, CellState.PARSED, CellState.FAILED))
-    reason = np.where(state == CellState.FAILED, "no pattern reads this value", None)
-    return out.evolve(
-        value=np.where(ok, values, np.datetime64("NaT")).astype("datetime64[us]"),
-        state=state.astype(np.int8),
-        pattern=np.where(ok, 0, -1).astype(np.int16),
-        patterns=("iso-date",),
-        reason=reason.astype(object),
+    kinds = column.kinds
+    value = np.full(n, np.datetime64("NaT"), dtype="datetime64[us]")
+    offset = np.full(n, NAIVE, dtype=np.int32)
+    has_time = np.zeros(n, dtype=bool)
+    state = np.full(n, CellState.BLANK, dtype=np.int8)
+    pat = np.full(n, -1, dtype=np.int16)
+    reason = np.full(n, None, dtype=object)
+    patterns = tuple(spec.patterns)
+    textual = np.isin(kinds, (CellKind.TEXT, CellKind.INT, CellKind.FLOAT, CellKind.ERROR))
+    if textual.any():
+        all_text = bool(textual.all())
+        vals = column.values if all_text else column.values[textual]
+        codes, uniques = pd.factorize(vals)
+        if (kinds[textual] != CellKind.TEXT).any() or not all(isinstance(u, str) for u in uniques):
+            uniques = np.array([_num_text(u) for u in uniques], dtype=object)
+        res = parse_texts(uniques, spec)
+        _apply_zone(res, spec)
+        rows = slice(None) if all_text else np.flatnonzero(textual)
+        value[rows] = res.value[codes]
+        offset[rows] = res.offset[codes]
+        has_time[rows] = res.has_time[codes]
+        state[rows] = res.state[codes]
+        pat[rows] = res.pattern[codes]
+        reason[rows] = res.reason[codes]
+    dated = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
+    if dated.any():
+        if DATE_CELL not in patterns:
+            patterns = (*patterns, DATE_CELL)
+        _date_cells(column, dated, spec, value, offset, has_time, state, reason)
+        pat[dated & (state == CellState.PARSED)] = patterns.index(DATE_CELL)
+    for kind, why in (
+        (CellKind.TIME, "a time-of-day cell with no date"),
+        (CellKind.BOOL, "a true/false cell, not a date"),
+    ):
+        hit = kinds == kind
+        state[hit] = CellState.FAILED
+        reason[hit] = why
+    return ParsedColumn(
+        source=column.name,
+        value=value,
+        offset_min=offset,
+        has_time=has_time,
+        state=state,
+        pattern=pat,
+        patterns=patterns,
+        reason=reason,
     )
+
+
+def _date_cells(
+    column: RawColumn,
+    dated: np.ndarray,
+    spec: ParseSpec,
+    value: np.ndarray,
+    offset: np.ndarray,
+    has_time: np.ndarray,
+    state: np.ndarray,
+    reason: np.ndarray,
+) -> None:
+    idx = np.flatnonzero(dated)
+    codes, uniques = pd.factorize(column.values[idx])
+    u_val = np.full(len(uniques), np.datetime64("NaT"), dtype="datetime64[us]")
+    u_off = np.full(len(uniques), NAIVE, dtype=np.int32)
+    for j, v in enumerate(uniques):  # per distinct date cell: Python objects from the reader
+        tz = getattr(v, "tzinfo", None)
+        if tz is not None and v.utcoffset() is not None:
+            u_off[j] = int(v.utcoffset().total_seconds() // 60)
+            v = v.replace(tzinfo=None)
+        u_val[j] = np.datetime64(v, "us")
+    res = _empty_result(len(uniques))
+    res.value, res.offset = u_val, u_off
+    res.state[:] = CellState.PARSED
+    day_us = (u_val - u_val.astype("datetime64[D]")).astype(np.int64)
+    res.has_time = (day_us != 0) | (u_off != NAIVE)
+    _apply_zone(res, spec)
+    value[idx] = res.value[codes]
+    offset[idx] = res.offset[codes]
+    has_time[idx] = res.has_time[codes]
+    state[idx] = res.state[codes]
+    reason[idx] = res.reason[codes]
+
+
+def parse_series(series: pd.Series, spec: ParseSpec) -> ParsedColumn:
+    """Parse a pandas Series (texts, numbers or dates) with ``spec``, for notebook use."""
+    from .table import RawTable
+
+    table = RawTable.from_dataframe(series.to_frame(name=str(series.name or "values")))
+    return parse_column(table.columns[0], spec)

@@ -1,0 +1,561 @@
+"""The scan's evidence: a census of every pattern over a column's distinct values, the
+column-wide decisions drawn from it, and the sentences that say why.
+
+Heuristics here are marked "common practice, no source" where they are rules of thumb: the
+plausibility windows for numbers, the name hints for past-event and non-date columns, the list
+of placeholder tokens.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
+
+from .clean import NAIVE, CellState
+from .fields import EV_BOTH_SMALL, EV_DMY, EV_MDY, Reading, read_pattern
+from .names import LANGUAGES
+from .parse import DATE_CELL, _apply_zone, _num_text, iso_text, normalise, parse_texts
+from .patterns import PATTERNS, label, mix_label, pattern
+from .report import CellNote, Suggestion
+from .spec import ParseSpec
+from .table import CellKind, RawColumn, SourceFacts
+
+__all__ = ["Census", "build_suggestion", "census_of", "disagreements", "likeness_of"]
+
+#: Numbers that compete for digit-only values, in the order ties are broken.
+DIGIT_PATTERNS = (
+    "compact-ymd",
+    "serial",
+    "epoch-s",
+    "epoch-ms",
+    "compact-dmy",
+    "compact-mdy",
+    "iso-ordinal",
+    "compact-yymmdd",
+    "compact-ddmmyy",
+    "compact-mmddyy",
+)
+TEXT_PATTERNS = tuple(p for p in PATTERNS if p not in DIGIT_PATTERNS and p != DATE_CELL)
+
+#: Tokens exports use for "no date" (common practice, no source).
+PLACEHOLDERS = frozenset(
+    [
+        "n/a",
+        "na",
+        "n.a",
+        "n",
+        "a",
+        "n/k",
+        "nk",
+        "none",
+        "null",
+        "nil",
+        "nan",
+        "nat",
+        "unknown",
+        "unk",
+        "?",
+        "??",
+        "???",
+        "-",
+        "--",
+        "---",
+        "—",
+        "–",
+        ".",
+        "x",
+        "xx",
+        "xxx",
+        "tbd",
+        "tba",
+        "tbc",
+        "pending",
+        "missing",
+        "blank",
+        "empty",
+        "0",
+        "00/00/0000",
+        "0/0/0000",
+        "0000-00-00",
+        "00.00.0000",
+        "00-00-0000",
+        "00/00/00",
+        "#n/a",
+        "#value!",
+        "#ref!",
+        "not",
+        "known",
+        "not",
+        "applicable",
+        "no",
+        "date",
+        "inconnu",
+        "unbekannt",
+        "desconocido",
+        "sconosciuto",
+        "onbekend",
+        "not known",
+        "not applicable",
+        "no date",
+    ]
+)
+#: Dates often written to mean "no date" (common practice, no source).
+SENTINELS = ("1900-01-01", "1899-12-30", "1899-12-31", "1970-01-01", "9999-12-31", "0001-01-01")
+
+_PAST_HINT = re.compile(
+    r"birth|born|\bdob\b|d\.o\.b|start|joined|\bjoin|since|hired?\b|hire|enrol|registered|"
+    r"signed|issued|founded|first",
+    re.I,
+)
+_DATE_HINT = re.compile(
+    r"date|time|\bday\b|\bdob\b|born|birth|joined|start|\bend\b|created|updated|modified|when|"
+    r"since|expir|\bdue\b|stamp|\bat$|_at\b|\bon$|_on\b|datum|fecha|data",
+    re.I,
+)
+_NOT_DATE_HINT = re.compile(
+    r"\bid\b|_id\b|\bids?$|number|\bno\b|\bnum|#|code|amount|price|total|qty|quantity|count|"
+    r"salary|wage|pay|phone|zip|postcode|postal|score|\bage\b|weight|height|fee|balance|cost|"
+    r"sum|value|rank|index|seq|member",
+    re.I,
+)
+_DIGITS_RE = r"^-?\d+(?:\.\d*)?$"
+
+
+@dataclass
+class Census:
+    """A column's sampled distinct values and what every pattern made of them."""
+
+    name: str
+    facts: SourceFacts
+    n_rows: int
+    empty: int
+    texts: np.ndarray  # sampled distinct texts (object)
+    weights: np.ndarray  # cells holding each
+    rows: np.ndarray  # first row position of each
+    norm: pa.Array
+    digit: np.ndarray  # bool: digits only (a number)
+    n_distinct: int
+    text_cells: int
+    dated: int
+    date_examples: tuple[tuple[str, str], ...]
+    other_failed: int  # time-of-day and true/false cells
+    readings: dict[str, Reading]
+    locales: tuple[str, ...] = ("en",)
+    placeholder: np.ndarray | None = None
+    blank_tokens: tuple[str, ...] = ()
+    order_ambiguous: bool = False
+    two_digit_years: bool = False
+    aware: bool = False
+    digit_alternatives: list[dict[str, str]] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+    sample_note: str | None = None
+
+
+def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
+    """Read up to ``sample`` distinct values of ``column`` with every pattern."""
+    kinds = column.kinds
+    textual = np.isin(kinds, (CellKind.TEXT, CellKind.INT, CellKind.FLOAT, CellKind.ERROR))
+    rows_t = np.flatnonzero(textual)
+    codes, uniques = pd.factorize(column.values[rows_t])
+    texts = np.array([u if isinstance(u, str) else _num_text(u) for u in uniques], dtype=object)
+    weights = np.bincount(codes, minlength=len(uniques)).astype(np.int64)
+    first = np.full(len(uniques), -1, dtype=np.int64)
+    first[codes[::-1]] = np.arange(len(codes))[::-1]
+    sel = np.arange(len(uniques))
+    note = None
+    if len(uniques) > sample:
+        # Deterministic: the most frequent half, and the rest spread evenly over the file order.
+        by_weight = np.argsort(-weights, kind="stable")[: sample // 2]
+        rest = np.setdiff1d(sel, by_weight)
+        spread = rest[np.linspace(0, len(rest) - 1, sample - len(by_weight)).astype(np.int64)]
+        sel = np.sort(np.concatenate([by_weight, spread]))
+        note = (
+            f"estimated from a sample of {len(sel):,} of {len(uniques):,} distinct values "
+            f"({int(weights[sel].sum()):,} of {len(rows_t):,} cells)"
+        )
+    norm = normalise(pa.array(texts[sel], type=pa.string()))
+    digit = pc.match_substring_regex(norm, _DIGITS_RE).to_numpy(zero_copy_only=False)
+    spec = ParseSpec(
+        patterns=tuple(p for p in PATTERNS if p != DATE_CELL),
+        date_system=facts.date_system,
+        locales=tuple(LANGUAGES),
+    )
+    readings = {pid: read_pattern(pattern(pid), norm, spec) for pid in spec.patterns}
+    dated_mask = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
+    examples = tuple((str(v), v.isoformat()) for v in pd.unique(column.values[dated_mask][:50])[:2])
+    c = Census(
+        name=column.name,
+        facts=facts,
+        n_rows=len(column),
+        empty=int((kinds == CellKind.EMPTY).sum()),
+        texts=texts[sel],
+        weights=weights[sel],
+        rows=rows_t[first[sel]] if len(rows_t) else first[sel],
+        norm=norm,
+        digit=digit,
+        n_distinct=len(uniques),
+        text_cells=len(rows_t),
+        dated=int(dated_mask.sum()),
+        date_examples=examples,
+        other_failed=int(np.isin(kinds, (CellKind.TIME, CellKind.BOOL)).sum()),
+        readings=readings,
+        sample_note=note,
+    )
+    c.locales = _languages(c)
+    return c
+
+
+def _languages(c: Census) -> tuple[str, ...]:
+    names = ("name-dmy", "name-mdy", "name-ymd")
+    rows = np.zeros(len(c.texts), dtype=bool)
+    for p in names:
+        rows |= c.readings[p].ok
+    if not rows.any():
+        return ("en",)
+    sub = c.norm.filter(pa.array(rows))
+    w = c.weights[rows]
+    covered = {}
+    for lang in LANGUAGES:
+        spec = ParseSpec(patterns=names, locales=(lang,))
+        hit = np.zeros(len(sub), dtype=bool)
+        for p in names:
+            hit |= read_pattern(pattern(p), sub, spec).ok
+        covered[lang] = hit
+    chosen: list[str] = []
+    left = np.ones(len(sub), dtype=bool)
+    while left.any():
+        lang = max(LANGUAGES, key=lambda g: int(w[covered[g] & left].sum()))
+        if not (covered[lang] & left).any():
+            break
+        chosen.append(lang)
+        left &= ~covered[lang]
+    return tuple(chosen) or ("en",)
+
+
+def placeholders_of(c: Census) -> list[tuple[str, int]]:
+    """Recurring tokens no pattern reads, suggested as blank (normalised text, cells)."""
+    ok = np.zeros(len(c.texts), dtype=bool)
+    for r in c.readings.values():
+        ok |= r.ok | r.ambiguous
+    norm = np.asarray(c.norm.to_numpy(zero_copy_only=False), dtype=object)
+    known = np.isin(norm, list(PLACEHOLDERS))
+    has_digit = pc.match_substring_regex(c.norm, r"\d").to_numpy(zero_copy_only=False)
+    length = pc.utf8_length(c.norm).to_numpy(zero_copy_only=False)
+    recurring = ~has_digit & (c.weights >= 2) & (length <= 24) & (length > 0)
+    mask = ~ok & (known | recurring)
+    c.placeholder = mask
+    counts: dict[str, int] = {}
+    for t, w in zip(norm[mask], c.weights[mask]):
+        counts[t] = counts.get(t, 0) + int(w)
+    return sorted(counts.items(), key=lambda kv: (-kv[1], kv[0]))
+
+
+def _live(c: Census) -> np.ndarray:
+    return ~c.placeholder if c.placeholder is not None else np.ones(len(c.texts), bool)
+
+
+def _window(pid: str, ref_year: int) -> tuple[int, int]:
+    # Plausible years for a number read as a date (common practice, no source). Serials start
+    # later so small counts and IDs (1–7305) are not taken for 1900s dates.
+    return (1920 if pid == "serial" else 1900, ref_year + 50)
+
+
+def choose_patterns(c: Census, ref_year: int) -> list[str]:
+    """Patterns the column uses: text shapes that occur, then the number readings that make
+    plausible dates, in the order they were chosen (that order is their priority)."""
+    live = _live(c)
+    chosen = [p for p in TEXT_PATTERNS if (c.readings[p].matched & live & ~c.digit).any()]
+    if "iso-ordinal" not in chosen and (c.readings["iso-ordinal"].matched & live & ~c.digit).any():
+        chosen.append("iso-ordinal")
+    left = live & c.digit
+    digits: list[str] = []
+    total = int(c.weights[left].sum())
+    while left.any() and len(digits) < 3:
+        best, best_w, best_mask = None, 0, None
+        for p in DIGIT_PATTERNS:
+            if p in digits or p in chosen:
+                continue
+            r = c.readings[p]
+            lo, hi = _window(p, ref_year)
+            plausible = r.ok & left & (r.year >= lo) & (r.year <= hi)
+            w = int(c.weights[plausible].sum())
+            if w > best_w:
+                best, best_w, best_mask = p, w, plausible
+        if best is None or best_w == 0 or (digits and best_w < 0.01 * total):
+            break
+        if not digits:
+            for q in DIGIT_PATTERNS:
+                if q == best or q in chosen:
+                    continue
+                r = c.readings[q]
+                lo, hi = _window(q, ref_year)
+                w = int(c.weights[r.ok & left & (r.year >= lo) & (r.year <= hi)].sum())
+                if w >= 0.5 * best_w:
+                    c.digit_alternatives.append({best: q})
+        digits.append(best)
+        left &= ~c.readings[best].ok
+        del best_mask
+    if not digits and (c.digit & live).any():
+        # Numbers but none plausible: keep the serial reading so each one gets a reason.
+        digits.append("serial")
+    return chosen + digits
+
+
+def decide_day_order(
+    c: Census, patterns: list[str], prefer: str | None
+) -> tuple[str | None, list[str], list[str]]:
+    live = _live(c)
+    n = {EV_DMY: 0, EV_MDY: 0, EV_BOTH_SMALL: 0}
+    for p in patterns:
+        if not PATTERNS[p].uses_day_order:
+            continue
+        r = c.readings[p]
+        seen = (r.ok | r.ambiguous) & live
+        for code in n:
+            n[code] += int(c.weights[seen & (r.order == code)].sum())
+    dmy, mdy, both = n[EV_DMY], n[EV_MDY], n[EV_BOTH_SMALL]
+    c.order_ambiguous = both > 0
+    fit = f"; {both} values fit either order and are read the same way" if both else ""
+    if dmy and not mdy:
+        return (
+            "dmy",
+            [
+                "evidence",
+                f"day before month: {dmy} values have a first field above 12; none contradict{fit}",
+            ],
+            [],
+        )
+    if mdy and not dmy:
+        return (
+            "mdy",
+            [
+                "evidence",
+                f"month before day: {mdy} values have a second field above 12; "
+                f"none contradict{fit}",
+            ],
+            [],
+        )
+    if dmy and mdy:
+        warn = (
+            f"the column mixes day/month orders: {dmy} values can only be day-first and {mdy} "
+            f"only month-first; each of those is read by itself"
+            + (f", and the {both} values that fit both stay ambiguous" if both else "")
+        )
+        return None, ["undecided", "day/month order conflicts within the column"], [warn]
+    if not both:
+        return None, ["default"], []
+    if prefer:
+        said = "day" if prefer == "dmy" else "month"
+        return (
+            prefer,
+            [
+                "preference",
+                f"no value decides the day/month order ({both} values fit both); read {said} first "
+                "as you prefer: a preference, not evidence",
+            ],
+            [],
+        )
+    return (
+        None,
+        ["undecided"],
+        [
+            f"{both} values fit both day-first and month-first and nothing in the column decides; "
+            "they stay ambiguous until an order is chosen"
+        ],
+    )
+
+
+def decide_century(
+    c: Census, patterns: list[str], name: str, ref_year: int
+) -> tuple[str, int | None, list[str]]:
+    live = _live(c)
+    two = 0
+    future = 0
+    for p in patterns:
+        r = c.readings[p]
+        m = r.ok & live & r.two_digit
+        two += int(c.weights[m].sum())
+        future += int(c.weights[m & (r.year > ref_year)].sum())
+    c.two_digit_years = two > 0
+    if not two:
+        return "posix", None, ["default"]
+    if future:
+        return (
+            "past",
+            ref_year,
+            [
+                "evidence",
+                f"two-digit years: by the POSIX rule {future} of {two} values would fall after "
+                f"{ref_year}; read as past events, each year is the latest not after {ref_year} "
+                "ending in those digits",
+            ],
+        )
+    if _PAST_HINT.search(name or ""):
+        return (
+            "past",
+            ref_year,
+            [
+                "evidence",
+                f'two-digit years: the column name "{name}" suggests past events (common practice, '
+                f"no source), so each year is the latest not after {ref_year} "
+                "ending in those digits",
+            ],
+        )
+    return (
+        "posix",
+        None,
+        [
+            "default",
+            f"two-digit years ({two} values) read by the POSIX rule: 69–99 → 1969–1999, "
+            "00–68 → 2000–2068",
+        ],
+    )
+
+
+def decide_zone(c: Census, patterns: list[str]) -> list[str]:
+    live = _live(c)
+    aware = naive = 0
+    for p in patterns:
+        r = c.readings[p]
+        m = r.ok & live
+        aware += int(c.weights[m & (r.offset != NAIVE)].sum())
+        naive += int(c.weights[m & (r.offset == NAIVE)].sum())
+    naive += c.dated
+    c.aware = aware > 0
+    if aware and naive:
+        return [
+            f"{aware} values carry a UTC offset and {naive} do not: the column mixes aware and "
+            "naive times; offsets are kept as written and naive values stay naive"
+        ]
+    return []
+
+
+def _parse_sample(c: Census, spec: ParseSpec):
+    res = parse_texts(c.texts, spec)
+    _apply_zone(res, spec)
+    return res
+
+
+def build_suggestion(
+    c: Census,
+    spec: ParseSpec,
+    factor: float,
+    decisions: dict[str, str],
+    evidence: list[str],
+    warnings: list[str],
+) -> Suggestion:
+    res = _parse_sample(c, spec)
+    w = c.weights
+    parsed_m = res.state == CellState.PARSED
+    parsed = int(w[parsed_m].sum()) + c.dated
+    failed = int(w[res.state == CellState.FAILED].sum()) + c.other_failed
+    amb = int(w[res.state == CellState.AMBIGUOUS].sum())
+    total = parsed + failed + amb
+    mix: list[tuple[str, str, int]] = []
+    examples: list[tuple[str, str]] = []
+    iso = iso_text(res.value, res.offset, res.has_time)
+    for k, pid in enumerate(spec.patterns):
+        m = parsed_m & (res.pattern == k)
+        cnt = int(w[m].sum())
+        if not cnt:
+            continue
+        two = int(w[m & res.two_digit].sum()) * 2 > cnt
+        lab = label(pid, day_order=spec.day_order, date_system=spec.date_system, two_digit_year=two)
+        mix.append((pid, lab, cnt))
+        j = np.flatnonzero(m)[0]
+        examples.append((str(c.texts[j]), str(iso[j])))
+    if c.dated:
+        mix.append((DATE_CELL, label(DATE_CELL), c.dated))
+        examples.extend(c.date_examples[:1])
+    mix.sort(key=lambda t: -t[2])
+    text = mix_label([(lab, cnt) for _, lab, cnt in mix]) if mix else "no dates read"
+    bad = np.flatnonzero((res.state == CellState.FAILED) | (res.state == CellState.AMBIGUOUS))
+    bad = bad[np.argsort(c.rows[bad], kind="stable")][:20]
+    start = c.facts.header_row + 1
+    failures = tuple(
+        CellNote(int(c.rows[j]), int(c.rows[j]) + start, str(c.texts[j]), str(res.reason[j]))
+        for j in bad
+    )
+    ev = list(evidence)
+    if c.sample_note:
+        ev.append(c.sample_note)
+    if c.blank_tokens:
+        ev.append("treated as blank: " + ", ".join(f'"{t}"' for t in c.blank_tokens))
+    warn = list(warnings)
+    for s in SENTINELS:
+        hits = int(w[parsed_m & (iso == s)].sum())
+        if hits:
+            warn.append(
+                f"{hits} values are {s}, a date often written to mean 'no date'; kept as dates"
+            )
+    coverage = parsed / total if total else 0.0
+    return Suggestion(
+        spec=spec,
+        label=text,
+        score=round(coverage * factor, 6),
+        parsed=parsed,
+        total=total,
+        mix=tuple(mix),
+        examples=tuple(examples[:5]),
+        evidence=tuple(ev),
+        warnings=tuple(warn),
+        decisions=decisions,
+        failures=failures,
+        failed=failed,
+        ambiguous=amb,
+    )
+
+
+def disagreements(c: Census, a: ParseSpec, b: ParseSpec) -> tuple[tuple[str, str, str], ...]:
+    ra, rb = _parse_sample(c, a), _parse_sample(c, b)
+    ia = np.where(ra.state == CellState.PARSED, iso_text(ra.value, ra.offset, ra.has_time), "")
+    ib = np.where(rb.state == CellState.PARSED, iso_text(rb.value, rb.offset, rb.has_time), "")
+    diff = np.flatnonzero((ia != ib) & _live(c))
+    diff = diff[np.argsort(-c.weights[diff], kind="stable")][:10]
+    return tuple((str(c.texts[j]), ia[j] or "unresolved", ib[j] or "unresolved") for j in diff)
+
+
+def likeness_of(c: Census, best: Suggestion, name: str, ref_year: int) -> float:
+    """0..1: the share of cells the best reading resolves, discounted when the column is only
+    numbers (an ID or amount column reads as serials too easily)."""
+    if not best.total:
+        return 0.0
+    cover = (best.parsed + best.ambiguous) / best.total
+    res = _parse_sample(c, best.spec)
+    parsed = res.state == CellState.PARSED
+    w = c.weights
+    num_w = int(w[parsed & c.digit].sum())
+    share = num_w / (best.parsed or 1)
+    if share < 0.05:
+        return round(cover, 4)
+    if _NOT_DATE_HINT.search(name or "") and not _DATE_HINT.search(name or ""):
+        factor = 0.1
+    elif _DATE_HINT.search(name or ""):
+        factor = 1.0
+    else:
+        years = res.value[parsed & c.digit].astype("datetime64[Y]").astype(np.int64) + 1970
+        pids = np.array((*best.spec.patterns, ""))[res.pattern[parsed & c.digit]]
+        lo = np.where(pids == "serial", 1920, 1900)
+        ok = (years >= lo) & (years <= ref_year + 50)
+        ww = w[parsed & c.digit]
+        plausible = float(ww[ok].sum() / ww.sum()) if ww.sum() else 0.0
+        factor = 0.7 * plausible * (0.3 if _id_like(c) else 1.0)
+    return round(cover * (1 - share + share * factor), 4)
+
+
+def _id_like(c: Census) -> bool:
+    """Distinct whole numbers filling a dense range: row numbers or member numbers
+    (common practice, no source)."""
+    m = c.digit & _live(c)
+    if m.sum() < 20 or (c.weights[m] > 1).any():
+        return False
+    vals = pd.to_numeric(pd.Series(c.texts[m]), errors="coerce").to_numpy()
+    if np.isnan(vals).any() or (vals != np.round(vals)).any():
+        return False
+    span = vals.max() - vals.min() + 1
+    return bool(span <= 1.5 * len(vals))

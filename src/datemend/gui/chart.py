@@ -110,6 +110,14 @@ def _apart_bars(v: np.ndarray) -> list[Bar]:
     return out
 
 
+def _round(label: str) -> bool:
+    """A label worth a tick: a year ending in 0 or 5, a decade range, or a January."""
+    head = label.split("–")[0]
+    if len(head) == 7:  # YYYY-MM
+        return head.endswith("-01")
+    return head.isdigit() and int(head) % 5 == 0
+
+
 class DateSpread(QWidget):
     """The chart; see the module docstring for what it shows and the signals it emits."""
 
@@ -208,21 +216,22 @@ class DateSpread(QWidget):
     def _draw_labels(self, p: QPainter, rects: list[QRectF]) -> None:
         h = self.height()
         fm = p.fontMetrics()
-        last_right = -1e9
-        picks = [0, len(self.bars) - 1]
-        picks += [i for i, b in enumerate(self.bars) if b.apart]
+        # Labels by priority (set-apart bars, the ends, round years), kept where they fit.
         main = [i for i, b in enumerate(self.bars) if not b.apart]
+        picks = [i for i, b in enumerate(self.bars) if b.apart]
         if main:
             picks += [main[0], main[-1]]
-        for i in sorted(set(picks)):
+        picks += [i for i in main if _round(self.bars[i].label)]
+        taken: list[tuple[float, float]] = []
+        for i in dict.fromkeys(picks):
             b, r = self.bars[i], rects[i]
             tw = fm.horizontalAdvance(b.label)
             x = min(max(r.center().x() - tw / 2, 0), self.width() - tw - 2)
-            if x <= last_right + 4:
+            if any(x < right + 6 and x + tw + 6 > left for left, right in taken):
                 continue
+            taken.append((x, x + tw))
             p.setPen(_APART if b.apart else QColor(INK))
             p.drawText(QPoint(int(x), int(h - 14)), b.label)
-            last_right = x + tw
         p.setPen(QColor(INK))
         if any(b.apart for b in self.bars):
             p.drawText(QPoint(36, h - 2), "! hatched: set apart — placeholders and far-off dates")

@@ -5,7 +5,7 @@ data cannot make (day/month order, two-digit years, 1900/1904, zone) are explici
 values are laid over the chosen suggestion's spec when the user presses "Use this reading".
 
 Signals:
-    use_requested(object): a ParseSpec to record as the column's reading.
+    use_requested(object, str): a ParseSpec to record as the column's reading, and its label.
     blank_requested(object): a tuple of tokens to record as "treat as blank".
 """
 
@@ -105,7 +105,7 @@ class _Card(QFrame):
 class ReadingsPanel(QWidget):
     """Suggestions for the chosen column; see the module docstring for the signals."""
 
-    use_requested = Signal(object)
+    use_requested = Signal(object, str)
     blank_requested = Signal(object)
 
     def __init__(self, parent: QWidget | None = None) -> None:
@@ -213,7 +213,7 @@ class ReadingsPanel(QWidget):
         return dataclasses.replace(s.spec, **changes) if changes else s.spec
 
     def _use(self, s: Suggestion) -> None:
-        self.use_requested.emit(self.spec_for(s))
+        self.use_requested.emit(self.spec_for(s), s.label)
 
     def _blank(self) -> None:
         if self.report is not None and self.report.placeholders:

@@ -1,0 +1,42 @@
+"""Start the desktop window: ``datemend`` and ``datemend open [FILE]`` call ``run_app``."""
+
+from __future__ import annotations
+
+import sys
+from types import TracebackType
+
+from PySide6.QtGui import QIcon
+from PySide6.QtWidgets import QApplication
+
+from .errors import sentence_for
+from .window import ICON, MainWindow
+
+__all__ = ["make_app", "run_app"]
+
+
+def make_app(argv: list[str] | None = None) -> QApplication:
+    """The QApplication (made once), named so settings and the log folder are ours."""
+    app = QApplication.instance()
+    if app is None:
+        QApplication.setApplicationName("datemend")
+        QApplication.setOrganizationName("datemend")
+        app = QApplication(argv if argv is not None else sys.argv[:1])
+        app.setWindowIcon(QIcon(str(ICON)))
+    assert isinstance(app, QApplication)
+    return app
+
+
+def run_app(file: str | None = None) -> int:
+    """Open the window (on ``file`` if given) and run until it is closed; the exit code."""
+    app = make_app()
+    window = MainWindow()
+
+    def hook(kind: type[BaseException], err: BaseException, tb: TracebackType | None) -> None:
+        # A slot that raised: one sentence on screen, the traceback only in the log file.
+        window.show_error(sentence_for(err.with_traceback(tb), "working"))
+
+    sys.excepthook = hook
+    window.show()
+    if file:
+        window.open_file(file)
+    return int(app.exec())

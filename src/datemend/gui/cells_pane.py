@@ -1,0 +1,208 @@
+"""The Cells pane: a filter bar, the cells table, and the date spread under it.
+
+Filters are numpy selections made by ``CellsModel`` (all cells, cells needing a look, one
+pattern group, a chart bar's date range) plus a find box; nothing here walks the rows.
+
+Signals:
+    hand_set_requested(int, str): forwarded from the model (row position, typed text).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QCheckBox,
+    QComboBox,
+    QHBoxLayout,
+    QHeaderView,
+    QLabel,
+    QLineEdit,
+    QSplitter,
+    QTableView,
+    QVBoxLayout,
+    QWidget,
+)
+
+from ..core.clean import ParsedColumn
+from .cells_model import CellsModel, CellsSource, Column, RowFilter
+from .chart import DateSpread
+
+__all__ = ["CellsPane"]
+
+_WIDTHS = {
+    Column.ROW: 48,
+    Column.KEY: 92,
+    Column.RAW: 150,
+    Column.READS: 150,
+    Column.STATE: 105,
+    Column.PATTERN: 110,
+    Column.NOTE: 240,
+}
+
+
+class CellsPane(QWidget):
+    """See the module docstring."""
+
+    hand_set_requested = Signal(int, str)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.model = CellsModel(self)
+        self.model.hand_set_requested.connect(self.hand_set_requested)
+        self.title = QLabel("<b>Cells</b>")
+        self.show_box = QComboBox()
+        self.show_box.setAccessibleName("Show which cells")
+        self.find = QLineEdit()
+        self.find.setPlaceholderText("Find a value (Ctrl+F)")
+        self.find.setClearButtonEnabled(True)
+        self.find.setAccessibleName("Find a value")
+        self.problems_first = QCheckBox("Problems &first")
+        self.count = QLabel()
+        bar = QHBoxLayout()
+        bar.addWidget(self.title)
+        bar.addWidget(QLabel("Show:"))
+        bar.addWidget(self.show_box)
+        bar.addWidget(self.find, 1)
+        bar.addWidget(self.problems_first)
+        bar.addWidget(self.count)
+
+        self.table = QTableView()
+        self.table.setObjectName("cellsTable")
+        self.table.setAccessibleName("Cells")
+        self.table.setModel(self.model)
+        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.table.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+        self.table.setEditTriggers(
+            QAbstractItemView.EditTrigger.DoubleClicked
+            | QAbstractItemView.EditTrigger.EditKeyPressed
+        )
+        self.table.setAlternatingRowColors(True)
+        self.table.setWordWrap(False)
+        vh = self.table.verticalHeader()
+        vh.setVisible(False)
+        vh.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)  # no per-row measuring at 1M rows
+        vh.setDefaultSectionSize(self.fontMetrics().height() + 6)
+        hh = self.table.horizontalHeader()
+        hh.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        hh.setStretchLastSection(True)
+
+        self.chart = DateSpread()
+        self.chart_title = QLabel("<b>Date spread</b> — click a bar to see its rows")
+        chart_box = QWidget()
+        cl = QVBoxLayout(chart_box)
+        cl.setContentsMargins(0, 0, 0, 0)
+        cl.addWidget(self.chart_title)
+        cl.addWidget(self.chart, 1)
+
+        split = QSplitter(Qt.Orientation.Vertical)
+        split.addWidget(self.table)
+        split.addWidget(chart_box)
+        split.setStretchFactor(0, 3)
+        split.setStretchFactor(1, 1)
+        split.setChildrenCollapsible(False)
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(0, 0, 0, 0)
+        lay.addLayout(bar)
+        lay.addWidget(split, 1)
+
+        self._range: tuple[np.datetime64, np.datetime64] | None = None
+        self._fill_show_box(None)
+        self.show_box.activated.connect(self._show_changed)
+        self.find.textChanged.connect(lambda _t: self._apply_filter())
+        self.problems_first.toggled.connect(lambda _b: self._apply_filter())
+        self.chart.bar_chosen.connect(self._bar_chosen)
+        self.chart.cleared.connect(self._bar_cleared)
+        self.model.rows_changed.connect(self._update_count)
+
+    # -- data ------------------------------------------------------------------------------
+    def set_source(self, source: CellsSource | None, *, keep_filter: bool = True) -> None:
+        """Show a column (``keep_filter``: the same column after a fix keeps its filter)."""
+        parsed = None if source is None else source.parsed
+        if not keep_filter:
+            self._range = None
+            self.find.blockSignals(True)
+            self.find.clear()
+            self.find.blockSignals(False)
+        self._fill_show_box(parsed)
+        self.title.setText(f"<b>Cells</b> of “{source.raw.name}”" if source else "<b>Cells</b>")
+        self.chart.set_values(None if parsed is None else parsed.value)
+        self.model.set_source(source, self._current_filter())
+        fm = self.table.horizontalHeader().fontMetrics()
+        for col, w in _WIDTHS.items():
+            i = self.model.column_of(col)
+            if i >= 0:
+                head = str(self.model.headerData(i, Qt.Orientation.Horizontal))
+                self.table.setColumnWidth(i, max(w, fm.horizontalAdvance(head) + 24))
+
+    def _fill_show_box(self, parsed: ParsedColumn | None) -> None:
+        current = self.show_box.currentData()
+        self.show_box.blockSignals(True)
+        self.show_box.clear()
+        self.show_box.addItem("all cells", ("all", None))
+        self.show_box.addItem("cells needing a look (✗ ?)", ("problems", None))
+        if parsed is not None:
+            counts = np.bincount(
+                parsed.pattern[parsed.pattern >= 0].astype(np.int64), minlength=len(parsed.patterns)
+            )
+            for i, name in enumerate(parsed.patterns):
+                if counts[i]:
+                    self.show_box.addItem(f"pattern group: {name} ({counts[i]:,})", ("pattern", i))
+        if self._range is not None:
+            lo = self._range[0]
+            self.show_box.addItem(f"dates from the chosen bar ({lo} …)", ("range", None))
+        i = self.show_box.findData(current) if current is not None else 0
+        self.show_box.setCurrentIndex(max(0, i))
+        self.show_box.blockSignals(False)
+
+    # -- filters ---------------------------------------------------------------------------
+    def show_mode(self, mode: str, pattern: int | None = None) -> None:
+        """Pick the filter by name ("all", "problems", "pattern", "range")."""
+        i = self.show_box.findData((mode, pattern))
+        if i >= 0:
+            self.show_box.setCurrentIndex(i)
+        self._apply_filter()
+
+    def _current_filter(self) -> RowFilter:
+        mode, pattern = self.show_box.currentData() or ("all", None)
+        lo = hi = None
+        if mode == "range" and self._range is not None:
+            lo, hi = self._range
+        return RowFilter(
+            mode=mode,
+            pattern=pattern,
+            lo=lo,
+            hi=hi,
+            find=self.find.text().strip(),
+            problems_first=self.problems_first.isChecked(),
+        )
+
+    def _apply_filter(self) -> None:
+        self.model.set_filter(self._current_filter())
+
+    def _show_changed(self, _i: int) -> None:
+        mode, _p = self.show_box.currentData()
+        if mode != "range":
+            self._range = None
+            self.chart.chosen = None
+            self.chart.update()
+        self._apply_filter()
+
+    def _bar_chosen(self, lo: np.datetime64, hi: np.datetime64) -> None:
+        self._range = (lo, hi)
+        self._fill_show_box(self.model.source.parsed if self.model.source else None)
+        self.show_box.setCurrentIndex(self.show_box.findData(("range", None)))
+        self._apply_filter()
+
+    def _bar_cleared(self) -> None:
+        self._range = None
+        self._fill_show_box(self.model.source.parsed if self.model.source else None)
+        self.show_box.setCurrentIndex(0)
+        self._apply_filter()
+
+    def _update_count(self) -> None:
+        src = self.model.source
+        total = 0 if src is None else len(src.raw)
+        self.count.setText(f"{self.model.rowCount():,} of {total:,} cells")
+        self.table.setAccessibleDescription(self.model.row_filter.describe())

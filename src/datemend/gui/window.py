@@ -1,0 +1,635 @@
+"""The main window: Columns | Cells and Date spread | Readings and Fix log, with menus and keys.
+
+The window holds no date logic. It turns clicks into calls on the core's Session, runs long work
+(open, scan, replay, export, applying a long log) as Jobs, and redraws when the Session says
+something changed. Questions to the user go through ``ask_*`` methods and dialogs are shown with
+``open()``, so tests replace the former and reach the latter as attributes.
+
+Signals:
+    document_ready(): a file (or a replayed table) is shown.
+    table_refreshed(): the views were redrawn after the session changed.
+    job_started(object): a Job began (tests wait on its signals).
+"""
+
+from __future__ import annotations
+
+import contextlib
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtCore import QSettings, Qt, Signal
+from PySide6.QtGui import QAction, QCloseEvent, QDragEnterEvent, QDropEvent, QIcon, QKeySequence
+from PySide6.QtWidgets import QLabel, QMainWindow, QMessageBox, QSplitter
+
+from ..core.fixlog import FixLog
+from ..core.session import Session, SessionEvent
+from .cells_model import CellsSource
+from .cells_pane import CellsPane
+from .columns_pane import ColumnsPane
+from .dialogs import AboutDialog, DeriveDialog, ExportDialog, ReplayDialog
+from .errors import sentence_for
+from .files import FileAsker, make_settings
+from .fixlog_panel import FixLogPanel, StepRow
+from .jobs import Job, JobBar
+from .readings import ReadingsPanel
+
+__all__ = ["MainWindow"]
+
+ICON = Path(__file__).with_name("datemend.svg")
+MAX_RECENT = 8
+
+
+class MainWindow(QMainWindow, FileAsker):
+    """See the module docstring."""
+
+    document_ready = Signal()
+    table_refreshed = Signal()
+    job_started = Signal(object)
+
+    def __init__(self, settings: QSettings | None = None) -> None:
+        super().__init__()
+        self.setWindowTitle("datemend")
+        self.setWindowIcon(QIcon(str(ICON)))
+        self.setAcceptDrops(True)
+        self.settings = settings or make_settings()
+        self.session: Session | None = None
+        self.path: Path | None = None
+        self.sheet: str | None = None
+        self.column: str | None = None
+        self.jobs: list[Job] = []
+        self._apply_job: Job | None = None
+        self._unsubscribe: Any = None
+        #: Tables with at least this many rows apply fix-log edits in a Job, off the GUI thread.
+        self.apply_in_thread_rows = 200_000
+        self.about_dialog: AboutDialog | None = None
+        self.replay_dialog: ReplayDialog | None = None
+        self.export_dialog: ExportDialog | None = None
+        self.derive_dialog: DeriveDialog | None = None
+        self.last_message: QMessageBox | None = None
+        self.last_export: Any = None
+
+        self.columns = ColumnsPane()
+        self.cells = CellsPane()
+        self.readings = ReadingsPanel()
+        self.fixlog = FixLogPanel()
+        right = QSplitter(Qt.Orientation.Vertical)
+        right.addWidget(self.readings)
+        right.addWidget(self.fixlog)
+        right.setStretchFactor(0, 3)
+        right.setStretchFactor(1, 2)
+        main = QSplitter(Qt.Orientation.Horizontal)
+        main.addWidget(self.columns)
+        main.addWidget(self.cells)
+        main.addWidget(right)
+        main.setStretchFactor(0, 1)
+        main.setStretchFactor(1, 4)
+        main.setStretchFactor(2, 2)
+        main.setSizes([260, 660, 360])
+        main.setChildrenCollapsible(False)
+        self.setCentralWidget(main)
+        self.job_bar = JobBar()
+        self.status = QLabel("Open a CSV, XLSX or ODS file (Ctrl+O), or drop one here.")
+        self.statusBar().addWidget(self.status, 1)
+        self.statusBar().addPermanentWidget(self.job_bar)
+
+        self._make_actions()
+        self.columns.column_chosen.connect(self.show_column)
+        self.columns.sheet_chosen.connect(lambda s: self.open_file(self.path, sheet=s))
+        self.readings.use_requested.connect(self._use_reading)
+        self.readings.blank_requested.connect(self._blank_tokens)
+        self.cells.hand_set_requested.connect(self._hand_set)
+        self.fixlog.toggle_requested.connect(self._toggle_step)
+        self.fixlog.remove_requested.connect(lambda i: self._edit(lambda s: s.remove_step(i)))
+        self.fixlog.move_requested.connect(lambda i, j: self._edit(lambda s: s.move_step(i, j)))
+        self.fixlog.save_requested.connect(self.save_log)
+        self.fixlog.load_requested.connect(self.load_log)
+        self.job_bar.stop.setShortcut(QKeySequence("Esc"))
+        self.resize(1280, 800)
+        self._update_actions()
+
+    # ------------------------------------------------------------------ actions and menus
+    def _act(self, text: str, slot: Any, keys: Any = None, tip: str = "") -> QAction:
+        a = QAction(text, self)
+        if keys is not None:
+            a.setShortcuts(keys if isinstance(keys, list) else [QKeySequence(keys)])
+        if tip:
+            a.setStatusTip(tip)
+            a.setToolTip(tip)
+        a.triggered.connect(lambda _checked=False: slot())
+        self.addAction(a)
+        return a
+
+    def _make_actions(self) -> None:
+        K = QKeySequence.StandardKey
+        self.act_open = self._act("&Open file…", self.ask_and_open, QKeySequence(K.Open))
+        self.act_save_log = self._act("&Save fix log…", self.save_log, QKeySequence(K.Save))
+        self.act_load_log = self._act("&Load fix log…", self.load_log, "Ctrl+L")
+        self.act_replay = self._act(
+            "&Replay a fix log on a file…",
+            self.ask_and_replay,
+            "Ctrl+R",
+            "Run a saved fix log on another file and see what changed before using it.",
+        )
+        self.act_export = self._act("&Export a clean copy…", self.open_export, "Ctrl+E")
+        self.act_quit = self._act("&Quit", self.close, QKeySequence(K.Quit))
+        self.act_quit.setShortcut(QKeySequence("Ctrl+Q"))
+        self.act_undo = self._act("&Undo", self.undo, QKeySequence(K.Undo))
+        self.act_redo = self._act(
+            "&Redo", self.redo, [QKeySequence("Ctrl+Shift+Z"), QKeySequence("Ctrl+Y")]
+        )
+        self.act_find = self._act("&Find a value", self.focus_find, QKeySequence(K.Find))
+        self.act_hand = self._act(
+            "Set the cell by &hand",
+            self.edit_current_cell,
+            "F2",
+            "Type the date of the selected cell yourself (recorded in the fix log).",
+        )
+        self.act_derive = self._act("Add a &worked-out column or rule…", self.open_derive, "Ctrl+D")
+        self.act_all = self._act("Show &all cells", lambda: self.cells.show_mode("all"), "Ctrl+1")
+        self.act_problems = self._act(
+            "Show cells needing a &look", lambda: self.cells.show_mode("problems"), "Ctrl+2"
+        )
+        self.act_first = self._act(
+            "&Problems first", lambda: self.cells.problems_first.toggle(), "Ctrl+3"
+        )
+        panes = [
+            ("&Columns", self.columns.list),
+            ("C&ells", self.cells.table),
+            ("&Date spread", self.cells.chart),
+            ("&Readings", self.readings),
+            ("&Fix log", self.fixlog.list),
+        ]
+        self.go_actions = [
+            self._act(f"Go to {name}", lambda w=w: w.setFocus(), f"Alt+{i}")
+            for i, (name, w) in enumerate(panes, start=1)
+        ]
+        self.act_stop = self._act("&Stop the running work", self.stop_jobs)
+        self.act_about = self._act(
+            "&About datemend and cautions", self.show_about, QKeySequence(K.HelpContents)
+        )
+        self.act_about.setShortcuts([QKeySequence("F1")])
+
+        bar = self.menuBar()
+        m = bar.addMenu("&File")
+        m.addAction(self.act_open)
+        self.recent_menu = m.addMenu("Open r&ecent")
+        m.addSeparator()
+        m.addActions([self.act_save_log, self.act_load_log, self.act_replay])
+        m.addSeparator()
+        m.addAction(self.act_export)
+        m.addSeparator()
+        m.addAction(self.act_quit)
+        m = bar.addMenu("&Edit")
+        m.addActions([self.act_undo, self.act_redo])
+        m.addSeparator()
+        m.addActions([self.act_find, self.act_hand, self.act_derive])
+        m = bar.addMenu("&View")
+        m.addActions([self.act_all, self.act_problems, self.act_first])
+        m.addSeparator()
+        m.addActions(self.go_actions)
+        m = bar.addMenu("&Work")
+        m.addAction(self.act_stop)
+        m = bar.addMenu("&Help")
+        m.addAction(self.act_about)
+        self._fill_recent()
+
+    def _update_actions(self) -> None:
+        s = self.session
+        has = s is not None
+        for a in (self.act_save_log, self.act_load_log, self.act_export, self.act_derive):
+            a.setEnabled(has)
+        self.act_undo.setEnabled(has and s.can_undo)
+        self.act_redo.setEnabled(has and s.can_redo)
+        self.act_undo.setText(f"&Undo {s.undo_label}" if has and s.can_undo else "&Undo")
+        self.act_redo.setText(f"&Redo {s.redo_label}" if has and s.can_redo else "&Redo")
+        self.act_stop.setEnabled(bool(self.jobs))
+
+    # ------------------------------------------------------------------ recent files
+    def recent_files(self) -> list[str]:
+        value = self.settings.value("recent", [])
+        if isinstance(value, str):
+            value = [value]
+        return [str(v) for v in (value or [])]
+
+    def _remember(self, path: Path) -> None:
+        items = [p for p in self.recent_files() if p != str(path)]
+        self.settings.setValue("recent", [str(path), *items][:MAX_RECENT])
+        self.settings.sync()
+        self._fill_recent()
+
+    def _fill_recent(self) -> None:
+        self.recent_menu.clear()
+        files = self.recent_files()
+        for i, p in enumerate(files, start=1):
+            a = self.recent_menu.addAction(f"&{i} {Path(p).name}")
+            a.setToolTip(p)
+            a.triggered.connect(lambda _c=False, p=p: self.open_file(p))
+        self.recent_menu.setEnabled(bool(files))
+
+    # ------------------------------------------------------------------ long work
+    def run_job(self, title: str, fn: Any, on_done: Any, what: str = "") -> Job:
+        """Run ``fn(progress)`` off the GUI thread; ``on_done(result)`` runs back here."""
+        job = Job(title, fn, self)
+        self.jobs.append(job)
+        self.job_bar.attach(job)
+        job.succeeded.connect(on_done)
+        job.failed.connect(lambda err: self.show_error(sentence_for(err, what or title.lower())))
+        job.cancelled.connect(lambda: self.say(f"{title}: stopped; nothing was changed."))
+        job.ended.connect(lambda: self._job_ended(job))
+        self.act_stop.setEnabled(True)
+        job.start()
+        self.job_started.emit(job)
+        return job
+
+    def _job_ended(self, job: Job) -> None:
+        if job in self.jobs:
+            self.jobs.remove(job)
+        if self.jobs and self.job_bar.job is None:
+            self.job_bar.attach(self.jobs[-1])
+        self.act_stop.setEnabled(bool(self.jobs))
+        job.deleteLater()
+
+    def stop_jobs(self) -> None:
+        for job in list(self.jobs):
+            job.cancel()
+
+    # ------------------------------------------------------------------ opening
+    def ask_and_open(self) -> None:
+        path = self.ask_open_path()
+        if path:
+            self.open_file(path)
+
+    def open_file(self, path: str | Path | None, sheet: str | None = None) -> Job | None:
+        """Read and scan a file in a Job; the window shows it when done."""
+        if path is None:
+            return None
+        path = Path(path)
+
+        def work(progress: Any) -> tuple[Session, list[str]]:
+            from ..core.readers import list_sheets, read_table
+
+            sheets = [s.name for s in list_sheets(path) if s.visible]
+            raw = read_table(path, sheet=sheet, progress=progress)
+            session = Session(raw)
+            session.scan_all(progress)
+            return session, sheets
+
+        return self.run_job(
+            f"Opening {path.name}",
+            work,
+            lambda result: self._adopt(result[0], path, result[1]),
+            what=f"opening {path.name}",
+        )
+
+    def _adopt(self, session: Session, path: Path, sheets: list[str]) -> None:
+        if self._unsubscribe is not None:
+            self._unsubscribe()
+        self.session = session
+        session.auto_apply = session.raw.n_rows < self.apply_in_thread_rows
+        self._unsubscribe = session.subscribe(self._on_event)
+        self.path = path
+        self.sheet = session.raw.facts.sheet
+        self._remember(path)
+        self.setWindowTitle(f"{session.raw.facts.where()} — datemend")
+        self.columns.set_sheets(sheets, self.sheet)
+        first = self._first_date_column()
+        self.column = None
+        self._refresh_columns()
+        self._refresh_log()
+        self._update_actions()
+        self.say(f"Opened {session.raw.facts.where()}: {session.raw.n_rows:,} rows.")
+        if first is not None:
+            self.columns.choose(first)
+        self.document_ready.emit()
+
+    def _first_date_column(self) -> str | None:
+        s = self.session
+        assert s is not None
+        for name in s.raw.names:
+            if name in s.clean.parsed or s.report(name).is_date:
+                return name
+        return s.raw.names[0] if s.raw.names else None
+
+    # ------------------------------------------------------------------ session events
+    def _on_event(self, ev: SessionEvent) -> None:
+        s = self.session
+        if s is None:
+            return
+        if ev.what == "log":
+            self._refresh_log()
+            if not s.auto_apply:
+                self._start_apply()
+        elif ev.what == "clean":
+            self._refresh_columns()
+            self._refresh_log()
+            if ev.columns is None or self.column in ev.columns or not ev.columns:
+                self._show_cells(keep_filter=True)
+            warnings = s.clean.warnings
+            if warnings:
+                self.say(warnings[-1])
+            self.table_refreshed.emit()
+        elif ev.what in ("reports", "table"):
+            self._refresh_columns()
+        self._update_actions()
+
+    def _start_apply(self) -> None:
+        s = self.session
+        assert s is not None
+        if self._apply_job is not None:
+            self._apply_job.cancel()
+        apply = s.apply_job()
+        job = self.run_job("Applying the fix log", apply.run, lambda _r: s.install(apply))
+        self._apply_job = job
+        job.ended.connect(lambda: self._apply_done(job))
+
+    def _apply_done(self, job: Job) -> None:
+        if self._apply_job is job:
+            self._apply_job = None
+
+    # ------------------------------------------------------------------ views
+    def _refresh_columns(self) -> None:
+        s = self.session
+        if s is None:
+            return
+        reports = {n: s.report(n) for n in s.raw.names}
+        self.columns.set_columns(s.raw.names, s.clean, reports, self.column)
+
+    def _refresh_log(self) -> None:
+        s = self.session
+        if s is None:
+            self.fixlog.set_steps([])
+            return
+        rows = [
+            StepRow(e.step.describe(), e.enabled, s.cells_changed(i))
+            for i, e in enumerate(s.log.entries)
+        ]
+        self.fixlog.set_steps(rows)
+
+    def show_column(self, name: str) -> None:
+        """Show one column in Cells, Date spread and Readings."""
+        if self.session is None or name not in self.session.raw:
+            return
+        changed = name != self.column
+        self.column = name
+        self.readings.set_report(self.session.report(name))
+        self._show_cells(keep_filter=not changed)
+
+    def _show_cells(self, keep_filter: bool) -> None:
+        s = self.session
+        if s is None or self.column is None:
+            self.cells.set_source(None)
+            return
+        raw = s.raw
+        key = s.log.key_column
+        keys = None
+        if key is not None and key in raw and key != self.column:
+            keys = raw.column(key).values
+        assert raw.source_rows is not None
+        src = CellsSource(
+            raw.column(self.column), s.clean.parsed.get(self.column), raw.source_rows, keys, key
+        )
+        self.cells.set_source(src, keep_filter=keep_filter)
+
+    def say(self, text: str) -> None:
+        self.status.setText(text)
+
+    def show_error(self, sentence: str) -> QMessageBox:
+        """One sentence in a dialog (never a traceback); the dialog does not block."""
+        self.say(sentence)
+        box = QMessageBox(QMessageBox.Icon.Warning, "datemend", sentence, parent=self)
+        box.setStandardButtons(QMessageBox.StandardButton.Ok)
+        box.open()
+        self.last_message = box
+        return box
+
+    def show_about(self) -> None:
+        if self.about_dialog is None:
+            self.about_dialog = AboutDialog(self)
+        self.about_dialog.open()
+
+    def focus_find(self) -> None:
+        self.cells.find.setFocus()
+        self.cells.find.selectAll()
+
+    def edit_current_cell(self) -> None:
+        from .cells_model import Column
+
+        t = self.cells.table
+        col = self.cells.model.column_of(Column.READS)
+        row = t.currentIndex().row()
+        if col >= 0 and row >= 0:
+            idx = self.cells.model.index(row, col)
+            t.setCurrentIndex(idx)
+            t.edit(idx)
+
+    # ------------------------------------------------------------------ edits
+    def _edit(self, fn: Any) -> None:
+        """Run one session edit; a user's mistake becomes one sentence."""
+        if self.session is None:
+            return
+        try:
+            fn(self.session)
+        except (ValueError, KeyError) as err:
+            self.show_error(str(err.args[0]) if err.args else str(err))
+        except Exception as err:  # shown as one sentence, the traceback goes to the log
+            self.show_error(sentence_for(err, "changing the fix log"))
+
+    def _use_reading(self, spec: Any, label: str) -> None:
+        col = self.column
+        if col is not None:
+            self._edit(lambda s: s.use_suggestion(col, spec, label))
+
+    def _blank_tokens(self, tokens: tuple[str, ...]) -> None:
+        col = self.column
+        if col is None:
+            return
+        s = self.session
+        if s is not None and col not in s.clean.parsed:
+            self.show_error(f'Read "{col}" as dates first; then tokens can be treated as blank.')
+            return
+        self._edit(lambda s: s.blank_tokens(tokens, (col,)))
+
+    def _hand_set(self, row: int, text: str) -> None:
+        col = self.column
+        if col is not None:
+            self._edit(lambda s: s.set_cell(col, row, text or None))
+
+    def _toggle_step(self, i: int) -> None:
+        s = self.session
+        if s is not None:
+            self._edit(lambda s: s.set_enabled(i, not s.log.entries[i].enabled))
+
+    def undo(self) -> None:
+        self._edit(lambda s: s.undo())
+
+    def redo(self) -> None:
+        self._edit(lambda s: s.redo())
+
+    # ------------------------------------------------------------------ fix log files
+    def save_log(self) -> None:
+        s = self.session
+        if s is None:
+            return
+        path = self.ask_save_log_path(self._beside("-fixlog.json"))
+        if not path:
+            return
+        try:
+            s.save_log(path)
+        except Exception as err:  # one sentence; the traceback goes to the log
+            self.show_error(sentence_for(err, f"saving {Path(path).name}"))
+            return
+        self.say(f"Saved the fix log to {path}.")
+
+    def load_log(self) -> None:
+        if self.session is None:
+            return
+        path = self.ask_log_path()
+        if path:
+            self._edit(lambda s: s.load_log(path))
+
+    def _beside(self, suffix: str) -> Path:
+        base = self.path or Path.home() / "datemend"
+        return base.with_name(base.stem + suffix)
+
+    # ------------------------------------------------------------------ replay
+    def ask_and_replay(self) -> None:
+        paths = self.ask_replay_paths()
+        if paths:
+            self.replay_files(*paths)
+
+    def replay_files(self, log_path: str | Path, data_path: str | Path) -> Job:
+        """Read a log and a file, replay in a Job, then show the replay check."""
+        log_path, data_path = Path(log_path), Path(data_path)
+
+        def work(progress: Any) -> tuple[Session, Any, list[str]]:
+            from ..core.readers import list_sheets, read_table
+
+            log = FixLog.load(log_path)
+            raw = read_table(data_path, progress=progress)
+            session = Session(raw, FixLog(key_column=log.key_column))
+            session.scan_all(progress)
+            report = session.replay(log, progress)
+            sheets = [s.name for s in list_sheets(data_path) if s.visible]
+            return session, report, sheets
+
+        return self.run_job(
+            f"Replaying {log_path.name} on {data_path.name}",
+            work,
+            lambda r: self._show_replay(r[0], r[1], data_path, r[2]),
+            what=f"replaying {log_path.name} on {data_path.name}",
+        )
+
+    def _show_replay(self, session: Session, report: Any, path: Path, sheets: list[str]) -> None:
+        from ..core.render import replay_html
+
+        headline = _headline(report, path)
+        dialog = ReplayDialog(replay_html(report), headline, self)
+        self.replay_dialog = dialog
+        dialog.accepted.connect(lambda: self._accept_replay(session, report, path, sheets))
+        dialog.open()
+
+    def _accept_replay(self, session: Session, report: Any, path: Path, sheets: list[str]) -> None:
+        self._adopt(session, path, sheets)
+        self._edit(lambda s: s.accept_replay(report))
+        self.cells.problems_first.setChecked(True)
+        self.say(f"Replayed the fix log on {path.name}; cells needing a look are listed first.")
+
+    # ------------------------------------------------------------------ export, derive
+    def open_export(self) -> None:
+        if self.session is None:
+            return
+        dialog = ExportDialog(self._beside("-clean.xlsx"), self.ask_export_path, self)
+        dialog.export_requested.connect(self.export_to)
+        self.export_dialog = dialog
+        dialog.open()
+
+    def export_to(self, target: Path, options: Any, replace: bool) -> Job | None:
+        s = self.session
+        if s is None:
+            return None
+        clean = s.clean
+        lines = [e.step.describe() for e in s.log.entries if e.enabled]
+
+        def work(progress: Any) -> Any:
+            from ..core.export import export_table
+
+            return export_table(
+                clean,
+                target,
+                options=options,
+                log_lines=lines,
+                overwrite=replace,
+                progress=progress,
+            )
+
+        def done(result: Any) -> None:
+            self.last_export = result
+            self.say(
+                f"Wrote {result.path.name}: {result.dates_written:,} dates, "
+                f"{result.unresolved:,} cells left as written ({result.writer_text})."
+            )
+
+        return self.run_job(f"Exporting {target.name}", work, done, f"exporting {target.name}")
+
+    def open_derive(self) -> None:
+        s = self.session
+        if s is None:
+            return
+        from ..core import derive
+        from ..core.steps import STEP_TYPES
+
+        with contextlib.suppress(ImportError):
+            from ..core import checks  # noqa: F401 - registers the rule steps
+        kinds = [
+            c
+            for c in STEP_TYPES.values()
+            if c.__module__.endswith((".derive", ".checks")) and getattr(c, "title", "")
+        ]
+        names = list(
+            dict.fromkeys(
+                [pc.output_name for pc in s.clean.parsed.values()] + list(s.clean.derived)
+            )
+        )
+        dialog = DeriveDialog(
+            kinds,
+            derive.parameters,
+            lambda step: derive.preview(step, s.clean, 8, s.ctx),
+            names,
+            self,
+        )
+        dialog.step_requested.connect(lambda step: self._edit(lambda s: s.add_step(step)))
+        self.derive_dialog = dialog
+        dialog.open()
+
+    # ------------------------------------------------------------------ window events
+    def dragEnterEvent(self, event: QDragEnterEvent) -> None:
+        urls = event.mimeData().urls()
+        if urls and urls[0].isLocalFile():
+            event.acceptProposedAction()
+
+    def dropEvent(self, event: QDropEvent) -> None:
+        urls = event.mimeData().urls()
+        if urls and urls[0].isLocalFile():
+            event.acceptProposedAction()
+            self.open_file(urls[0].toLocalFile())
+
+    def closeEvent(self, event: QCloseEvent) -> None:
+        for job in list(self.jobs):
+            job.cancel()
+        for job in list(self.jobs):
+            job.wait()
+        super().closeEvent(event)
+
+
+def _headline(report: Any, path: Path) -> str:
+    for name in ("headline", "summary"):
+        v = getattr(report, name, None)
+        v = v() if callable(v) else v
+        if isinstance(v, str) and v:
+            return v
+    lines = getattr(report, "lines", None)
+    if callable(lines):
+        got = list(lines())
+        if got:
+            return str(got[0])
+    return f"The fix log was replayed on {path.name}."

@@ -208,3 +208,68 @@ def test_import_datemend_does_not_load_dask():
     code = "import datemend, datemend.cli, sys; print('dask' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "False"
+
+
+def test_drift_report_adds_up_over_partitions(dataset, log, tmp_path):
+    from datemend.core.replay import replay
+
+    result = replay_dask(
+        log,
+        str(dataset / "csv" / "*.csv"),
+        out_dir=tmp_path / "out",
+        today=TODAY,
+        key_column="Member no",
+        scheduler="threads",
+    )
+    ctx = ApplyContext(today=TODAY, key_column="Member no")
+    singles = [replay(log, read_table(dataset / "csv" / n), ctx) for n in sorted(FILES)]
+    merged = result.report
+    assert merged.rows == sum(r.rows for r in singles) == 11  # 4 + 3 + 4 data rows, by hand
+    for col in merged.columns:
+        per_file = [r.column(col.column) for r in singles]
+        assert col.matched == sum(c.matched for c in per_file)
+        assert col.unmatched == sum(c.unmatched for c in per_file)
+        assert col.blank == sum(c.blank for c in per_file)
+    joined = merged.column("Joined")
+    # by hand: 2026-02-30 names no day (February has at most 29); member 105 was set by hand;
+    # the hand-set step's key (105) is only in the October file, yet it is not lost overall
+    assert joined.unmatched == 1
+    assert joined.manual == 1
+    assert not merged.lost_keys
+    assert merged.file == "3 files (*.csv)"
+    assert merged.has_drift and merged.unresolved >= 1
+
+
+def test_strict_writes_nothing_when_anything_drifted(dataset, log, tmp_path):
+    out = tmp_path / "out"
+    result = replay_dask(
+        log, str(dataset / "csv" / "*.csv"), out_dir=out, scheduler="synchronous", strict=True
+    )
+    assert not result.written and result.outputs == ()
+    assert result.report.unresolved >= 1  # 2026-02-30 in November's file
+    assert list(out.iterdir()) == []
+
+
+def test_progress_is_reported_and_cancel_stops_the_run(dataset, log, tmp_path):
+    from datemend.core.progress import Cancelled, Progress
+
+    seen: list[tuple[int, int]] = []
+    replay_dask(
+        log,
+        str(dataset / "csv" / "*.csv"),
+        out_dir=tmp_path / "a",
+        scheduler="synchronous",
+        progress=Progress(lambda d, t, _: seen.append((d, t))),
+    )
+    assert seen and seen[-1][0] == seen[-1][1]  # ends at 100 %
+    prog = Progress()
+    prog.cancel()
+    with pytest.raises(Cancelled):
+        replay_dask(
+            log,
+            str(dataset / "csv" / "*.csv"),
+            out_dir=tmp_path / "b",
+            scheduler="synchronous",
+            progress=prog,
+        )
+    assert list((tmp_path / "b").iterdir()) == []

@@ -199,12 +199,5 @@ class DatemendAccessor:
 
 
 def _split_replay(result: Any) -> tuple[Any, CleanTable | None]:
-    """(report, clean table) from whatever the core's replay returns."""
-    from .core.clean import CleanTable
-
-    if isinstance(result, tuple):
-        report = next((r for r in result if not isinstance(r, CleanTable)), None)
-        clean = next((r for r in result if isinstance(r, CleanTable)), None)
-        return report, clean
-    clean = getattr(result, "clean", None) or getattr(result, "table", None)
-    return result, clean if isinstance(clean, CleanTable) else None
+    """(drift report, replayed table): the core's ReplayReport carries its table."""
+    return result, getattr(result, "table", None)

@@ -154,7 +154,7 @@ def replay_dask(
         )
         summary = _compute(job, scheduler, progress).sort_values("partition")
         reports = [_report_from_json(s) for s in summary["report"]]
-        report = _merge_reports(fix_log, reports)
+        report = _merge_reports(fix_log, reports, _describe_inputs(paths, inputs, kind))
         parts = tuple(
             (str(s), str(o), int(r))
             for s, o, r in zip(summary["source"], summary["output"], summary["rows"])
@@ -205,7 +205,7 @@ def _replay_partition(
             "source": [sources[number]],
             "output": [names[number]],
             "rows": [raw.n_rows],
-            "report": [json.dumps(None if report is None else _report_to_dict(report))],
+            "report": [json.dumps(_report_to_dict(report))],
         }
     ).astype({"source": object, "output": object, "report": object})
 
@@ -253,13 +253,9 @@ def _load_log(log: Any) -> Any:
 
 
 def _replay_one(fixlog: Any, log: Any, raw: RawTable, ctx: ApplyContext) -> tuple[Any, Any]:
-    replay = getattr(fixlog, "replay", None)
-    if replay is None:  # drift reports not available yet: values only
-        return None, fixlog.apply_log(log, raw, ctx)
-    result = replay(log, raw, ctx)
-    if isinstance(result, tuple):
-        return result[0], result[1]
-    return result, fixlog.apply_log(log, raw, ctx)
+    """(drift report, clean table) of one partition: the single-machine ``replay`` call."""
+    report = fixlog.replay(log, raw, ctx)
+    return report, report.table
 
 
 def _write(clean: Any, path: Path, options: Any) -> None:
@@ -273,15 +269,32 @@ def _report_to_dict(report: Any) -> dict[str, Any]:
 
 
 def _report_from_json(text: str) -> Any:
-    return json.loads(text)
+    from .core.replay import ReplayReport
+
+    return ReplayReport.from_dict(json.loads(text))
 
 
-def _merge_reports(log: Any, reports: list[Any]) -> Any:
-    return reports
+def _merge_reports(log: Any, reports: list[Any], described: str) -> Any:
+    """One drift report for the whole dataset (counts add up; a hand-set cell is lost only if
+    no partition placed it), named after what was replayed."""
+    from .core.replay import ReplayReport
+
+    merged = ReplayReport.merge(reports)
+    return dataclasses.replace(merged, file=described, log=log)
 
 
 def _has_problems(report: Any) -> bool:
-    return False
+    return bool(report.has_drift or report.unresolved)
+
+
+def _describe_inputs(paths: Any, inputs: list[Path], kind: str) -> str:
+    if kind == "parquet" and len(inputs) == 1 and inputs[0].is_dir():
+        return f"Parquet dataset {inputs[0].name}"
+    if len(inputs) == 1:
+        return inputs[0].name
+    given = paths if isinstance(paths, str | Path) else None
+    tail = f" ({Path(given).name})" if given is not None else ""
+    return f"{len(inputs)} files{tail}"
 
 
 # ------------------------------------------------------------------------------ inputs

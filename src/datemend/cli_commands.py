@@ -111,7 +111,8 @@ def format_report(rep: ColumnReport, *, examples: int = 3) -> list[str]:
     if best.ambiguous:
         lines.append(f"  unclear      : {best.ambiguous} cells could be read two ways")
     for name, how in sorted(best.decisions.items()):
-        lines.append(f"  {name:<13}: decided by {how}")
+        said = "NOT decided" if how == "undecided" else f"decided by {how}"
+        lines.append(f"  {name.replace('_', ' '):<13}: {said}")
     for ev in best.evidence:
         lines.append(f"  evidence     : {ev}")
     for w in best.warnings:
@@ -168,3 +169,190 @@ def check_output_path(out: Path, source: str | None, overwrite: bool) -> None:
         raise DatemendError(f"{out} is the source file; datemend never writes over its input.")
     if out.exists() and not overwrite:
         raise DatemendError(f"{out} already exists; pass --overwrite to replace it.")
+
+
+# --------------------------------------------------------------------------------------- auto
+
+
+def _export_options(args: argparse.Namespace) -> Any:
+    from .core.export import ExportOptions
+
+    changes: dict[str, Any] = {"keep_raw": bool(args.keep_raw), "bom": bool(args.bom)}
+    if args.date_format:
+        changes["date_format"] = args.date_format
+    if args.zone:
+        changes["zone"] = args.zone
+    if args.delimiter:
+        changes["delimiter"] = args.delimiter.replace("\\t", "\t")
+    return ExportOptions(**changes)
+
+
+def _summary_lines(clean: Any) -> tuple[list[str], int]:
+    """One line per fixed column and the number of unresolved cells in all of them."""
+    lines = []
+    unresolved = 0
+    for pc in clean.parsed.values():
+        c = pc.counts()
+        bad = c["failed"] + c["ambiguous"]
+        unresolved += bad
+        lines.append(
+            f"  {pc.output_name}: {c['parsed'] + c['manual']} read, {c['blank']} blank, "
+            f"{c['failed']} not read, {c['ambiguous']} unclear"
+        )
+    return lines, unresolved
+
+
+def run_auto(args: argparse.Namespace) -> int:
+    from .core.export import export_table
+    from .core.fixlog import auto_fix
+
+    out = Path(args.output)
+    raw = _read(args)
+    check_output_path(out, raw.facts.path, args.overwrite)
+    progress = _progress(True)
+    reports = _scan(raw, args)
+    log, clean = auto_fix(
+        raw,
+        reports,
+        prefer_day_order=args.day_order,
+        reference_year=args.reference_year,
+        progress=progress,
+    )
+    result = export_table(
+        clean,
+        out,
+        options=_export_options(args),
+        log_lines=[e.step.describe() for e in log.entries],
+        overwrite=args.overwrite,
+        progress=progress,
+    )
+    if args.log_out:
+        log_path = Path(args.log_out)
+        check_output_path(log_path, raw.facts.path, args.overwrite)
+        log.save(log_path)
+    lines, unresolved = _summary_lines(clean)
+    undecided = [
+        r.column
+        for r in reports
+        if r.is_date and r.best is not None and r.best.decisions.get("day_order") == "undecided"
+    ]
+    print(f"Wrote {result.path} ({result.rows} rows, {result.writer_text}).")
+    if not lines:
+        print("No date columns found; the output is a copy of the input's cells.")
+    else:
+        print(f"Fixed {len(lines)} date columns:")
+        print("\n".join(lines))
+    for note in result.notes:
+        print(f"Note: {note}")
+    if args.log_out:
+        print(f"Saved the fix log to {args.log_out}.")
+    if undecided:
+        print(
+            "Day/month order could not be decided for: "
+            + ", ".join(undecided)
+            + " (use --day-first or --month-first, or decide in the window)."
+        )
+    if unresolved or undecided:
+        print(f"{unresolved} cells stayed unresolved; they keep their raw text in the output.")
+        return EXIT_UNRESOLVED
+    return EXIT_OK
+
+
+# ------------------------------------------------------------------------------------- replay
+
+
+def _today(args: argparse.Namespace) -> Any:
+    import datetime as dt
+
+    if not args.today:
+        return dt.date.today()
+    try:
+        return dt.date.fromisoformat(args.today)
+    except ValueError:
+        msg = f'--today must be a date like 2026-11-30, not "{args.today}".'
+        raise DatemendError(msg) from None
+
+
+def run_replay(args: argparse.Namespace) -> int:
+    from .core.fixlog import FixLog
+
+    log = FixLog.load(args.log)
+    if args.engine == "dask":
+        return _replay_dask(args, log)
+    from .core.export import export_table
+    from .core.replay import replay
+    from .core.steps import ApplyContext
+
+    out = Path(args.output)
+    if args.sheet is None and log.source is not None and log.source.sheet:
+        from .core.readers import list_sheets
+
+        try:
+            names = [s.name for s in list_sheets(args.file)]
+        except DatemendError:
+            names = []
+        if log.source.sheet in names:
+            args.sheet = log.source.sheet
+    raw = _read(args)
+    check_output_path(out, raw.facts.path, args.overwrite or args.strict)
+    progress = _progress(True)
+    ctx = ApplyContext(today=_today(args), key_column=log.key_column)
+    report = replay(log, raw, ctx, progress)
+    print(str(report))
+    if args.report:
+        rpath = Path(args.report)
+        check_output_path(rpath, raw.facts.path, args.overwrite)
+        rpath.write_text(
+            json.dumps(report.to_dict(), indent=2, ensure_ascii=False), encoding="utf-8"
+        )
+    assert report.table is not None
+    lines, unresolved = _summary_lines(report.table)
+    if args.strict and (report.has_drift or unresolved):
+        print(
+            f"--strict: nothing written ({'drift found' if report.has_drift else ''}"
+            f"{', ' if report.has_drift and unresolved else ''}"
+            f"{f'{unresolved} unresolved cells' if unresolved else ''})."
+        )
+        return EXIT_STRICT
+    check_output_path(out, raw.facts.path, args.overwrite)
+    result = export_table(
+        report.table,
+        out,
+        options=_export_options(args),
+        log_lines=[e.step.describe() for e in log.entries],
+        overwrite=args.overwrite,
+        progress=progress,
+    )
+    print(f"Wrote {result.path} ({result.rows} rows, {result.writer_text}).")
+    print("\n".join(lines))
+    if unresolved:
+        print(f"{unresolved} cells stayed unresolved; they keep their raw text in the output.")
+        return EXIT_UNRESOLVED
+    return EXIT_OK
+
+
+def _replay_dask(args: argparse.Namespace, log: Any) -> int:
+    from .distributed import replay_dask
+
+    result = replay_dask(
+        log,
+        args.file,
+        out_dir=args.output,
+        today=_today(args),
+        options=_export_options(args),
+        overwrite=args.overwrite,
+        strict=args.strict,
+        scheduler=args.scheduler,
+        progress=_progress(True),
+    )
+    report = result.report
+    print(str(report))
+    if args.report:
+        Path(args.report).write_text(
+            json.dumps(report.to_dict(), indent=2, ensure_ascii=False), encoding="utf-8"
+        )
+    if args.strict and not result.written:
+        print("--strict: nothing written (drift or unresolved cells found).")
+        return EXIT_STRICT
+    print(f"Wrote {len(result.outputs)} files into {args.output}.")
+    return EXIT_UNRESOLVED if report.unresolved else EXIT_OK

@@ -71,6 +71,7 @@ __all__ = [
     "load_step_kinds",
     "make_auto_log",
     "parsed_ranges",
+    "unresolved_values",
 ]
 
 FORMAT = "datemend-fixlog"
@@ -115,7 +116,10 @@ class LogSource:
     """Facts about the file a log was made on (information for the drift report, not a lock).
 
     ``ranges``: for each parsed source column, the earliest and latest date read or set by hand
-    (ISO 8601), so replay can point at values far outside them.
+    (ISO 8601), so replay can point at values far outside them. ``unresolved``: the distinct raw
+    values (at most ``MAX_UNRESOLVED`` per column) no pattern read in the source, so replay tells
+    a failure already known from a new one. ``keys``: the key column's values when the table
+    has at most ``MAX_KEYS`` rows, so replay can say which rows are new and which are gone.
     """
 
     file_name: str | None = None
@@ -125,11 +129,15 @@ class LogSource:
     rows: int | None = None
     date_system: int | None = None
     ranges: dict[str, tuple[str, str]] = field(default_factory=dict)
+    unresolved: dict[str, tuple[str, ...]] = field(default_factory=dict)
+    keys: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         d = dataclasses.asdict(self)
         d["columns"] = list(self.columns)
         d["ranges"] = {k: list(v) for k, v in self.ranges.items()}
+        d["unresolved"] = {k: list(v) for k, v in self.unresolved.items()}
+        d["keys"] = list(self.keys)
         return d
 
     @classmethod
@@ -137,6 +145,8 @@ class LogSource:
         d = dict(d)
         d["columns"] = tuple(d.get("columns", ()))
         d["ranges"] = {k: (v[0], v[1]) for k, v in d.get("ranges", {}).items()}
+        d["unresolved"] = {k: tuple(v) for k, v in d.get("unresolved", {}).items()}
+        d["keys"] = tuple(d.get("keys", ()))
         return cls(**d)
 
     @classmethod
@@ -150,7 +160,18 @@ class LogSource:
             rows=raw.n_rows,
             date_system=raw.facts.date_system,
             ranges=parsed_ranges(clean),
+            unresolved=unresolved_values(clean),
+            keys=_keys_of(clean),
         )
+
+
+def _keys_of(clean: CleanTable) -> tuple[str, ...]:
+    from .rowkey import key_text
+
+    key = clean.key_column
+    if key is None or key not in clean.raw or clean.raw.n_rows > MAX_KEYS:
+        return ()
+    return tuple(str(k) for k in key_text(clean.raw.column(key)))
 
 
 def parsed_ranges(clean: CleanTable) -> dict[str, tuple[str, str]]:
@@ -162,6 +183,25 @@ def parsed_ranges(clean: CleanTable) -> dict[str, tuple[str, str]]:
             vals = pc.value[ok]
             lo, hi = np.datetime_as_string(np.array([vals.min(), vals.max()]), unit="s")
             out[name] = (str(lo), str(hi))
+    return out
+
+
+#: Distinct unresolved values a log keeps per column (and their longest kept length).
+MAX_UNRESOLVED = 100
+MAX_VALUE_CHARS = 60
+#: Largest table whose row keys a log keeps (about 150 kB of JSON for short keys).
+MAX_KEYS = 10_000
+
+
+def unresolved_values(clean: CleanTable) -> dict[str, tuple[str, ...]]:
+    """Distinct trimmed raw values of the cells no pattern read, per parsed column (capped)."""
+    out: dict[str, tuple[str, ...]] = {}
+    for name, pc in clean.parsed.items():
+        rows = np.flatnonzero(pc.state == CellState.FAILED)
+        if len(rows) and name in clean.raw:
+            text = clean.raw.column(name).text().iloc[rows].fillna("").astype(object).str.strip()
+            values = [v[:MAX_VALUE_CHARS] for v in pd.unique(text)[:MAX_UNRESOLVED]]
+            out[name] = tuple(dict.fromkeys(values))
     return out
 
 

@@ -66,6 +66,7 @@ class CellGroup:
     reason: str | None = None  # the engine's reason for the first of them
     suggestion: str | None = None  # label of what the engine would suggest for them now
     spec: ParseSpec | None = None
+    seen_before: bool = False  # cells of this shape were unresolved in the log's source too
 
 
 @dataclass(frozen=True)
@@ -86,7 +87,10 @@ class ColumnDrift:
 
     @property
     def has_drift(self) -> bool:
-        return bool(self.unmatched or self.ambiguous or self.new_tokens or self.out_of_range)
+        """Unmatched cells of a shape the source did not have, new tokens, or far-off values.
+        (Cells left unresolved as in the source, and ambiguous cells, count in ``unresolved``.)"""
+        new_groups = any(not g.seen_before for g in self.groups)
+        return bool(new_groups or self.new_tokens or self.out_of_range)
 
 
 @dataclass(frozen=True)
@@ -124,6 +128,8 @@ class ReplayReport:
     added: tuple[str, ...] = ()
     moved: tuple[str, ...] = ()
     lost_keys: tuple[LostKey, ...] = ()
+    rows_new: tuple[str, ...] = ()  # keys not in the log's source (information, not drift)
+    rows_gone: tuple[str, ...] = ()  # keys of the source no longer here (information)
     warnings: tuple[str, ...] = ()
     log: FixLog | None = field(default=None, compare=False, repr=False)
     table: CleanTable | None = field(default=None, compare=False, repr=False)
@@ -171,6 +177,7 @@ class ReplayReport:
                         reason=g.get("reason"),
                         suggestion=g.get("suggestion"),
                         spec=None if spec is None else ParseSpec.from_dict(spec),
+                        seen_before=g.get("seen_before", False),
                     )
                 )
             return tuple(out)
@@ -206,6 +213,8 @@ class ReplayReport:
             added=tuple(d.get("added", ())),
             moved=tuple(d.get("moved", ())),
             lost_keys=tuple(LostKey(**k) for k in d.get("lost_keys", ())),
+            rows_new=tuple(d.get("rows_new", ())),
+            rows_gone=tuple(d.get("rows_gone", ())),
             warnings=tuple(d.get("warnings", ())),
         )
 
@@ -238,6 +247,8 @@ class ReplayReport:
             added=_union(a for r in reports for a in r.added),
             moved=_union(m for r in reports for m in r.moved),
             lost_keys=tuple(lost.values()),
+            rows_new=_union(k for r in reports for k in r.rows_new),
+            rows_gone=tuple(set.intersection(*(set(r.rows_gone) for r in reports))),
             warnings=_union(w for r in reports for w in r.warnings),
         )
 
@@ -353,6 +364,7 @@ def drift_report(log: FixLog, table: CleanTable) -> ReplayReport:
         if name in raw and name in table.parsed:
             rng = None if src is None else src.ranges.get(name)
             columns.append(_column_drift(log, table, name, rng))
+    new_rows, gone_rows = _row_changes(log, raw)
     same = None
     if src is not None and src.sha256 and raw.facts.sha256:
         same = src.sha256 == raw.facts.sha256
@@ -367,9 +379,28 @@ def drift_report(log: FixLog, table: CleanTable) -> ReplayReport:
         added=added,
         moved=moved,
         lost_keys=_lost_keys(log, raw),
+        rows_new=new_rows,
+        rows_gone=gone_rows,
         warnings=table.warnings,
         log=log,
         table=table,
+    )
+
+
+def _row_changes(log: FixLog, raw: RawTable) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """Keys new since the log's source and keys gone, when the log kept its source's keys."""
+    from .rowkey import key_text
+
+    src = log.source
+    key = log.key_column
+    if src is None or not src.keys or key is None or key not in raw:
+        return (), ()
+    now = [str(k) for k in key_text(raw.column(key))]
+    before = set(src.keys)
+    here = set(now)
+    return (
+        tuple(k for k in now if k not in before),
+        tuple(k for k in src.keys if k not in here),
     )
 
 
@@ -453,7 +484,8 @@ def _column_drift(
     rc = table.raw.column(name)
     counts = pc.counts()
     failed = np.flatnonzero(pc.state == CellState.FAILED)
-    groups, tokens = _groups(table.raw, rc, failed, pc.reason, log.blank_tokens(name))
+    known = () if log.source is None else log.source.unresolved.get(name, ())
+    groups, tokens = _groups(table.raw, rc, failed, pc.reason, log.blank_tokens(name), known)
     out_n, out_ex = 0, ()
     if rng is not None:
         out_n, out_ex = _out_of_range(table.raw, rc, pc.value, pc.state, rng)
@@ -478,12 +510,16 @@ def _groups(
     rows: np.ndarray,
     reasons: np.ndarray,
     known_tokens: set[str],
+    known_values: Sequence[str] = (),
 ) -> tuple[tuple[CellGroup, ...], tuple[tuple[str, int], ...]]:
-    """Unmatched cells grouped by shape (largest first), and the placeholder-looking tokens."""
+    """Unmatched cells grouped by shape (largest first), and the placeholder-looking tokens that
+    are neither blank in the log nor among the source's unresolved ``known_values``."""
     if len(rows) == 0:
         return (), ()
     from .infer import scan_column
 
+    seen = set(known_values)
+    known_shapes = {shape_of(v) for v in seen}
     text = rc.text().iloc[rows].fillna("").astype(object).str.strip()
     codes, uniques = pd.factorize(text)
     u_counts = np.bincount(codes, minlength=len(uniques))
@@ -492,7 +528,9 @@ def _groups(
         (
             (str(u), int(n))
             for u, n in zip(uniques, u_counts)
-            if _is_placeholder(str(u), int(n)) and str(u).casefold() not in known_tokens
+            if _is_placeholder(str(u), int(n))
+            and str(u).casefold() not in known_tokens
+            and str(u) not in seen
         ),
         key=lambda t: (-t[1], t[0]),
     )
@@ -523,6 +561,7 @@ def _groups(
                 reason=None if reason is None else str(reason),
                 suggestion=suggestion,
                 spec=spec,
+                seen_before=str(shape) in known_shapes,
             )
         )
     return tuple(out), tuple(tokens)
@@ -617,6 +656,8 @@ def _lines(r: ReplayReport) -> list[str]:
             line = f"  {g.count} cells shaped {g.shape} (e.g. {ex}; row {g.rows[0]})"
             if g.suggestion:
                 line += f" — the engine would now suggest {g.suggestion}"
+            if g.seen_before:
+                line += " — unresolved in the log's source file too"
             out.append(line + ".")
         if c.new_tokens:
             toks = ", ".join(f'"{t}" ×{n}' for t, n in c.new_tokens)
@@ -628,9 +669,25 @@ def _lines(r: ReplayReport) -> list[str]:
                 f"  {c.out_of_range} values far outside the source's range {lo[:10]} to "
                 f'{hi[:10]} (e.g. row {row}: "{raw}" read as {val[:10]}).'
             )
+    if r.rows_new or r.rows_gone:
+        out.append(
+            f"Rows by {_key_words(r)}: {len(r.rows_new)} new, {len(r.rows_gone)} gone"
+            + (f" ({_few(r.rows_gone)} gone)" if r.rows_gone else "")
+            + "."
+        )
     for k in r.lost_keys:
         where = f"row {k.key}" if k.key_column is None else f'"{k.key_column}" = "{k.key}"'
         out.append(f'Hand-set cell of step {k.step} ("{k.column}", {where}) not placed: {k.why}.')
     for w in r.warnings:
         out.append(f"Note: {w}")
     return out
+
+
+def _key_words(r: ReplayReport) -> str:
+    key = r.log.key_column if r.log is not None else None
+    return f'"{key}"' if key else "key"
+
+
+def _few(keys: Sequence[str], n: int = 5) -> str:
+    shown = ", ".join(f'"{k}"' for k in keys[:n])
+    return shown + (f" and {len(keys) - n} more" if len(keys) > n else "")

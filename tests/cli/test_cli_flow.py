@@ -1,0 +1,109 @@
+"""The command line end to end on the sample files, checked against their ground truth.
+
+sample_files/truth.json is written by the sample generator from the dates it meant to write,
+before any datemend code runs: it is ground truth by construction, not output of the engine.
+"""
+
+import csv
+import json
+import pathlib
+import re
+
+import pytest
+
+from datemend.cli import EXIT_OK, EXIT_STRICT, EXIT_UNRESOLVED, main
+
+ROOT = pathlib.Path(__file__).resolve().parents[2]
+SAMPLES = ROOT / "sample_files"
+TRUTH = json.loads((SAMPLES / "truth.json").read_text(encoding="utf-8"))
+ISO_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
+
+
+def _read_csv(path):
+    with open(path, encoding="utf-8-sig", newline="") as fh:
+        return list(csv.DictReader(fh))
+
+
+def _check_against_truth(rows, month, *, day_first):
+    """Every date written equals the intended date; every decidable cell was written."""
+    truth_rows = TRUTH["months"][month]["rows"]
+    by_key = {r["member_no"]: r for r in truth_rows}
+    columns = TRUTH["date_columns"]
+    wrong, missed, checked = [], [], 0
+    for out in rows:
+        t = by_key[out["Member no"]]
+        for col, cell in zip(columns, t["cells"]):
+            intended, category = cell[0], cell[1]
+            got = out[col]
+            if ISO_DATE.match(got):
+                checked += 1
+                if got != intended:
+                    wrong.append((out["Member no"], col, cell[2], got, intended))
+            elif intended is not None and category not in ("impossible",):
+                undecided = category == "ambiguous_by_design" and not day_first
+                if not undecided:
+                    missed.append((out["Member no"], col, cell[2], got, intended))
+    return wrong, missed, checked
+
+
+@pytest.mark.parametrize("source", ["rowing_club_2026-10.xlsx", "rowing_club_2026-10.csv"])
+def test_auto_never_writes_a_wrong_date(tmp_path, source, capsys):
+    out = tmp_path / "oct.csv"
+    code = main(["auto", str(SAMPLES / source), "-o", str(out)])
+    assert code == EXIT_UNRESOLVED  # the "Last outing" column cannot be decided without a choice
+    assert "could not be decided" in capsys.readouterr().out
+    rows = _read_csv(out)
+    assert len(rows) == len(TRUTH["months"]["2026-10"]["rows"])
+    wrong, missed, checked = _check_against_truth(rows, "2026-10", day_first=False)
+    assert wrong == []
+    assert missed == []
+    assert checked > 900
+
+
+def test_auto_with_a_stated_preference_reads_the_undecidable_column(tmp_path):
+    out = tmp_path / "oct.csv"
+    log = tmp_path / "oct.json"
+    code = main(
+        ["auto", str(SAMPLES / "rowing_club_2026-10.xlsx"), "-o", str(out), "--day-first"]
+        + ["--log-out", str(log)]
+    )
+    assert code == EXIT_UNRESOLVED  # the planted impossible dates stay unresolved
+    wrong, missed, checked = _check_against_truth(_read_csv(out), "2026-10", day_first=True)
+    assert wrong == [] and missed == []
+    assert checked > 1100
+    saved = json.loads(log.read_text(encoding="utf-8"))
+    assert saved["format"] == "datemend-fixlog"
+
+
+def test_replay_on_the_next_month_reports_drift_and_strict_writes_nothing(tmp_path, capsys):
+    log = tmp_path / "oct.json"
+    main(
+        ["auto", str(SAMPLES / "rowing_club_2026-10.xlsx"), "-o", str(tmp_path / "o.csv")]
+        + ["--day-first", "--log-out", str(log)]
+    )
+    capsys.readouterr()
+    out = tmp_path / "nov.csv"
+    code = main(["replay", str(log), str(SAMPLES / "rowing_club_2026-11.xlsx"), "-o", str(out)])
+    text = capsys.readouterr().out
+    assert code in (EXIT_OK, EXIT_UNRESOLVED)
+    assert "tbc" in text  # the new placeholder word planted in November
+    assert "Safety course" in text  # the column that moved / gained a format
+    wrong, _, checked = _check_against_truth(_read_csv(out), "2026-11", day_first=True)
+    assert wrong == [] and checked > 900
+
+    strict_out = tmp_path / "strict.csv"
+    code = main(
+        ["replay", str(log), str(SAMPLES / "rowing_club_2026-11.xlsx")]
+        + ["-o", str(strict_out), "--strict"]
+    )
+    assert code == EXIT_STRICT
+    assert not strict_out.exists()
+
+
+def test_replay_with_a_broken_log_names_the_file(tmp_path, capsys):
+    bad = tmp_path / "bad.json"
+    bad.write_text('{"format": "datemend-fixlog", "version": 1, "steps": [', encoding="utf-8")
+    code = main(["replay", str(bad), str(SAMPLES / "rowing_club_2026-11.xlsx"), "-o", "x.csv"])
+    err = capsys.readouterr().err
+    assert code == 3
+    assert "bad.json" in err and "Traceback" not in err

@@ -464,7 +464,9 @@ def _likely_matches(
                 counts = pc.counts()
                 filled = len(pc) - counts["blank"]
                 share = counts["parsed"] / filled if filled else 0.0
-            score = name_sim if share is None else (name_sim + share) / 2
+            # content weighs double: a date column read by the recorded patterns is strong
+            # evidence, a similar header weaker (common practice, no source)
+            score = name_sim if share is None else (name_sim + 2 * share) / 3
             scored.append((score, g, cand, name_sim, share))
     scored.sort(key=lambda t: (-t[0], t[1], t[2]))
     taken: set[str] = set()

@@ -11,6 +11,8 @@ import jsonschema
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from datemend.core import derive
 from datemend.core.checks import NotAfter, NotAfterColumn, WithinRange
@@ -27,7 +29,7 @@ from datemend.core.derive import (
     parameters,
     preview,
 )
-from datemend.core.steps import STEP_TYPES, ApplyContext, FieldValueError
+from datemend.core.steps import STEP_TYPES, ApplyContext, FieldValueError, step_from_dict
 from datemend.core.table import RawTable
 
 CTX = ApplyContext(today=dt.date(2026, 11, 30))
@@ -266,3 +268,93 @@ def test_preview_shows_inputs_and_output_for_first_rows():
     assert rule.iloc[:, -1].tolist() == [False, False, False, False]
     bad = preview(Span(start="Joined", end="Nope"), t)
     assert bad.attrs["warnings"]
+
+
+# ---- every derived and rule kind round-trips (Hypothesis), and steps are row-local
+
+_names = st.text(st.characters(codec="utf-8", exclude_categories=("Cs",)), min_size=1, max_size=12)
+_days = st.dates(min_value=dt.date(1, 1, 1), max_value=dt.date(9999, 12, 31))
+_iso = _days.map(lambda d: d.isoformat())
+_as_of = st.one_of(st.just("replay-day"), _iso)
+_ref = st.one_of(
+    st.tuples(_as_of, st.none()), st.tuples(st.none(), _names), st.tuples(_as_of, _names)
+)
+
+
+def _with_ref(cls, **kw):
+    return _ref.flatmap(
+        lambda r: st.builds(cls, as_of=st.just(r[0]), as_of_column=st.just(r[1]), **kw)
+    )
+
+
+KIND_STEPS = st.one_of(
+    st.builds(
+        Span,
+        start=_names,
+        end=_names,
+        unit=st.sampled_from(["days", "days-exact", "weeks", "months", "years"]),
+        output=_names,
+    ),
+    _with_ref(Age, birth=_names, leap_day=st.sampled_from(["mar1", "feb28"]), output=_names),
+    _with_ref(Tenure, start=_names, output=_names),
+    st.builds(
+        CalendarPart,
+        column=_names,
+        part=st.sampled_from(list(derive.PARTS)),
+        locale=st.sampled_from(["en", "fr", "de_CH", "pt_BR"]),
+        fiscal_start=st.integers(1, 12),
+        fiscal_label=st.sampled_from(["end", "start"]),
+    ),
+    st.builds(
+        BusinessDays,
+        start=_names,
+        end=_names,
+        weekmask=st.lists(st.sampled_from("01"), min_size=7, max_size=7)
+        .map("".join)
+        .filter(lambda m: "1" in m),
+        country=st.sampled_from([None, "DE", "US"]),
+        subdiv=st.none(),
+        holidays=st.lists(_days, max_size=3).map(tuple),
+        include_end=st.booleans(),
+    ),
+    st.builds(
+        ConvertZone,
+        column=_names,
+        zone=st.sampled_from(["UTC", "Asia/Tokyo"]),
+        naive_zone=st.sampled_from([None, "Europe/Paris"]),
+    ),
+    st.builds(WithinRange, column=_names, earliest=_iso, label=_names),
+    st.builds(NotAfter, column=_names, as_of=_as_of, label=_names),
+    st.builds(NotAfterColumn, first=_names, second=_names, strict=st.booleans(), label=_names),
+)
+
+
+@settings(max_examples=80, deadline=None)
+@given(KIND_STEPS)
+def test_every_derived_kind_round_trips_through_json(step):
+    d = json.loads(json.dumps(step.to_dict()))
+    jsonschema.Draft202012Validator(type(step).schema()).validate(d)
+    again = step_from_dict(d)
+    assert again == step and type(again) is type(step)
+    assert again.to_dict() == step.to_dict()
+
+
+ROW_LOCAL = [
+    Age(birth="Born", leap_day="feb28"),
+    Tenure(start="Joined", as_of=None, as_of_column="Last outing"),
+    Span(start="Born", end="Joined", unit="years"),
+    CalendarPart(column="Joined", part="weekday-name", locale="de"),
+    BusinessDays(start="Joined", end="Last outing", country="DE", subdiv="BY"),
+]
+
+
+@pytest.mark.parametrize("step", ROW_LOCAL, ids=lambda s: s.kind)
+def test_steps_are_row_local(step):
+    # Applying to two halves gives, row for row, what applying to the whole gives.
+    t = make_table(MEMBERS)
+    whole = step.apply(t, CTX).derived[step.output_name].values
+    parts = []
+    for rows in (np.arange(0, 2), np.arange(2, 5)):
+        part = make_table({k: [v[i] for i in rows] for k, v in MEMBERS.items()})
+        parts.append(step.apply(part, CTX).derived[step.output_name].values)
+    assert pd.concat(parts, ignore_index=True).tolist() == whole.tolist()

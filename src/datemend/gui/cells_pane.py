@@ -42,6 +42,16 @@ _WIDTHS = {
 }
 
 
+def _mode_of(data: object) -> tuple[str, int | None]:
+    """The filter of a "Show" entry: its data is "all", "problems", "range" or "pattern:<i>".
+
+    (Strings, since a combo box compares Python objects by identity.)"""
+    text = str(data or "all")
+    if text.startswith("pattern:"):
+        return "pattern", int(text.split(":", 1)[1])
+    return text, None
+
+
 class CellsPane(QWidget):
     """See the module docstring."""
 
@@ -50,7 +60,11 @@ class CellsPane(QWidget):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.model = CellsModel(self)
-        self.model.hand_set_requested.connect(self.hand_set_requested)
+        # Queued: the edit becomes a step only after the editor has closed, since the step
+        # resets the model (and with it the editor) when it is applied.
+        self.model.hand_set_requested.connect(
+            self.hand_set_requested, Qt.ConnectionType.QueuedConnection
+        )
         self.title = QLabel("<b>Cells</b>")
         self.show_box = QComboBox()
         self.show_box.setAccessibleName("Show which cells")
@@ -140,18 +154,18 @@ class CellsPane(QWidget):
         current = self.show_box.currentData()
         self.show_box.blockSignals(True)
         self.show_box.clear()
-        self.show_box.addItem("all cells", ("all", None))
-        self.show_box.addItem("cells needing a look (✗ ?)", ("problems", None))
+        self.show_box.addItem("all cells", "all")
+        self.show_box.addItem("cells needing a look (✗ ?)", "problems")
         if parsed is not None:
             counts = np.bincount(
                 parsed.pattern[parsed.pattern >= 0].astype(np.int64), minlength=len(parsed.patterns)
             )
             for i, name in enumerate(parsed.patterns):
                 if counts[i]:
-                    self.show_box.addItem(f"pattern group: {name} ({counts[i]:,})", ("pattern", i))
+                    self.show_box.addItem(f"pattern group: {name} ({counts[i]:,})", f"pattern:{i}")
         if self._range is not None:
             lo = self._range[0]
-            self.show_box.addItem(f"dates from the chosen bar ({lo} …)", ("range", None))
+            self.show_box.addItem(f"dates from the chosen bar ({lo} …)", "range")
         i = self.show_box.findData(current) if current is not None else 0
         self.show_box.setCurrentIndex(max(0, i))
         self.show_box.blockSignals(False)
@@ -159,13 +173,13 @@ class CellsPane(QWidget):
     # -- filters ---------------------------------------------------------------------------
     def show_mode(self, mode: str, pattern: int | None = None) -> None:
         """Pick the filter by name ("all", "problems", "pattern", "range")."""
-        i = self.show_box.findData((mode, pattern))
+        i = self.show_box.findData(mode if pattern is None else f"{mode}:{pattern}")
         if i >= 0:
             self.show_box.setCurrentIndex(i)
         self._apply_filter()
 
     def _current_filter(self) -> RowFilter:
-        mode, pattern = self.show_box.currentData() or ("all", None)
+        mode, pattern = _mode_of(self.show_box.currentData())
         lo = hi = None
         if mode == "range" and self._range is not None:
             lo, hi = self._range
@@ -182,7 +196,7 @@ class CellsPane(QWidget):
         self.model.set_filter(self._current_filter())
 
     def _show_changed(self, _i: int) -> None:
-        mode, _p = self.show_box.currentData()
+        mode, _p = _mode_of(self.show_box.currentData())
         if mode != "range":
             self._range = None
             self.chart.chosen = None
@@ -192,7 +206,7 @@ class CellsPane(QWidget):
     def _bar_chosen(self, lo: np.datetime64, hi: np.datetime64) -> None:
         self._range = (lo, hi)
         self._fill_show_box(self.model.source.parsed if self.model.source else None)
-        self.show_box.setCurrentIndex(self.show_box.findData(("range", None)))
+        self.show_box.setCurrentIndex(self.show_box.findData("range"))
         self._apply_filter()
 
     def _bar_cleared(self) -> None:

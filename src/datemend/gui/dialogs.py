@@ -39,8 +39,8 @@ __all__ = ["ABOUT_HTML", "CAUTION", "AboutDialog", "DeriveDialog", "ExportDialog
 CAUTION = (
     "Dates that could be read more than one way (3/4: 3 April or 4 March?), two-digit years, and "
     "ages worked out from dates must be checked by a person before they are used for a legal, "
-    "medical or safety decision. The rules of your country or organisation decide what a date "
-    "or an age means there; datemend does not."
+    "medical or safety decision. Local rules (of your country, region or organisation) decide "
+    "what a date or an age means there; datemend does not."
 )
 
 ABOUT_HTML = f"""

@@ -93,6 +93,8 @@ class MainWindow(QMainWindow, FileAsker):
         self.statusBar().addPermanentWidget(self.job_bar)
 
         self._make_actions()
+        self.cells.table.setContextMenuPolicy(Qt.ContextMenuPolicy.ActionsContextMenu)
+        self.cells.table.addActions([self.act_hand, self.act_blank_value])
         self.columns.column_chosen.connect(self.show_column)
         self.columns.sheet_chosen.connect(lambda s: self.open_file(self.path, sheet=s))
         self.readings.use_requested.connect(self._use_reading)
@@ -144,6 +146,12 @@ class MainWindow(QMainWindow, FileAsker):
             "F2",
             "Type the date of the selected cell yourself (recorded in the fix log).",
         )
+        self.act_blank_value = self._act(
+            "Treat this &value as blank",
+            self.blank_current_value,
+            "Ctrl+B",
+            "Every cell of this column written like the selected one becomes blank (one step).",
+        )
         self.act_derive = self._act("Add a &worked-out column or rule…", self.open_derive, "Ctrl+D")
         self.act_all = self._act("Show &all cells", lambda: self.cells.show_mode("all"), "Ctrl+1")
         self.act_problems = self._act(
@@ -182,7 +190,7 @@ class MainWindow(QMainWindow, FileAsker):
         m = bar.addMenu("&Edit")
         m.addActions([self.act_undo, self.act_redo])
         m.addSeparator()
-        m.addActions([self.act_find, self.act_hand, self.act_derive])
+        m.addActions([self.act_find, self.act_hand, self.act_blank_value, self.act_derive])
         m = bar.addMenu("&View")
         m.addActions([self.act_all, self.act_problems, self.act_first])
         m.addSeparator()
@@ -421,6 +429,19 @@ class MainWindow(QMainWindow, FileAsker):
             idx = self.cells.model.index(row, col)
             t.setCurrentIndex(idx)
             t.edit(idx)
+
+    def blank_current_value(self) -> None:
+        """Record a "treat as blank" step for the selected cell's text, in this column."""
+        s, col = self.session, self.column
+        row = self.cells.table.currentIndex().row()
+        if s is None or col is None or row < 0:
+            return
+        r = int(self.cells.model.rows[row])
+        text = s.raw.column(col).text().iat[r]
+        if text is None or not str(text).strip():
+            self.say("That cell is empty already.")
+            return
+        self._blank_tokens((str(text).strip(),))
 
     # ------------------------------------------------------------------ edits
     def _edit(self, fn: Any) -> None:

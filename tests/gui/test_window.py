@@ -1,0 +1,452 @@
+"""The window end to end, offscreen: open, read a column by clicking, set a cell by hand, undo and
+redo, blank tokens, replay October's log on November, stop long work, errors as one sentence.
+
+Expected dates come from the samples' ground truth (``sample_files/truth.json``, written by the
+sample generator before datemend runs) or, for the small invented CSV, from Python's
+``datetime.strptime`` (the reference library) — never from datemend's own output.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import functools
+import json
+import threading
+from pathlib import Path
+
+import pytest
+from PySide6.QtCore import QMimeData, QPointF, Qt, QUrl
+from PySide6.QtGui import QDropEvent, QKeySequence
+from PySide6.QtWidgets import QLineEdit
+
+from datemend.core import infer
+from datemend.core.progress import Progress
+from datemend.core.readers import read_table
+from datemend.core.session import Session
+from datemend.gui.cells_model import Column
+from datemend.gui.window import MainWindow
+
+SAMPLES = Path(__file__).resolve().parents[2] / "sample_files"
+OCTOBER = SAMPLES / "rowing_club_2026-10.xlsx"
+NOVEMBER = SAMPLES / "rowing_club_2026-11.xlsx"
+TRUTH = SAMPLES / "truth.json"
+needs_samples = pytest.mark.skipif(
+    not (OCTOBER.exists() and NOVEMBER.exists() and TRUTH.exists()),
+    reason="sample files not generated",
+)
+
+# An invented club export (demo data of our own): D/M/YYYY join dates, junk and a bad day.
+SMALL_CSV = """Member no,Name,Joined,Last outing
+R001,Ada Quill,03/10/2019,2026-10-02
+R002,Ben Oar,14/02/2021,2026-09-28
+R003,Cy Stroke,n/a,2026-10-01
+R004,Di Scull,31/02/2022,2026-10-03
+R005,Ed Bow,05/06/2020,tbc
+R006,Flo Cox,21/09/2018,2026-10-04
+R007,Gil Rigger,25/12/2017,2026-08-15
+R008,Hal Keel,n/a,2026-10-05
+R009,Ivy Loom,ask Sam,tbc
+R010,Jo Fin,22/03/2023,2026-10-06
+"""
+
+
+@pytest.fixture(autouse=True)
+def _scan_once(monkeypatch):
+    """Scan each (same) column object once per test run: scanning is the engine's job and is
+    tested there; here it only costs time."""
+    monkeypatch.setattr(infer, "scan_column", _cached_scan)
+
+
+@functools.lru_cache(maxsize=256)
+def _cached_scan(column, facts=None, *, prefer_day_order=None, reference_year=None):
+    return _REAL_SCAN(
+        column, facts, prefer_day_order=prefer_day_order, reference_year=reference_year
+    )
+
+
+_REAL_SCAN = infer.scan_column
+
+
+@functools.cache
+def _raw(path: str):
+    return read_table(path)
+
+
+@pytest.fixture
+def small_csv(tmp_path) -> Path:
+    p = tmp_path / "club_2026-10.csv"
+    p.write_text(SMALL_CSV, encoding="utf-8")
+    return p
+
+
+@pytest.fixture
+def window(qtbot):
+    w = MainWindow()
+    qtbot.addWidget(w)
+    w.show()
+    qtbot.waitExposed(w)
+    yield w
+    w.close()
+
+
+def adopt(w: MainWindow, path: Path) -> Session:
+    """Show an already-read table (opening through a Job is tested once, below)."""
+    session = Session(_raw(str(path)))
+    w._adopt(session, path, [])
+    return session
+
+
+def reads_as(w: MainWindow) -> dict[str, tuple[str, str]]:
+    """Key -> (Reads as, State) for every row shown."""
+    m = w.cells.model
+    k, r, s = m.column_of(Column.KEY), m.column_of(Column.READS), m.column_of(Column.STATE)
+    return {
+        m.data(m.index(i, k)): (m.data(m.index(i, r)), m.data(m.index(i, s)))
+        for i in range(m.rowCount())
+    }
+
+
+def click_first_reading(qtbot, w: MainWindow) -> None:
+    assert w.readings.cards, "the scan offered no reading"
+    with qtbot.waitSignal(w.table_refreshed, timeout=10_000):
+        qtbot.mouseClick(w.readings.cards[0].use, Qt.MouseButton.LeftButton)
+
+
+def truth_of(month: str, column: str) -> dict[str, str | None]:
+    t = json.loads(TRUTH.read_text(encoding="utf-8"))
+    i = t["date_columns"].index(column)
+    return {row["member_no"]: row["cells"][i][0] for row in t["months"][month]["rows"]}
+
+
+# ---------------------------------------------------------------------------------- samples
+@needs_samples
+def test_open_october_pick_column_apply_reading_by_click(qtbot, window, qtmodeltester):
+    with qtbot.waitSignal(window.document_ready, timeout=30_000):
+        window.open_file(OCTOBER)
+    names = [
+        window.columns.list.item(i).data(Qt.ItemDataRole.UserRole)
+        for i in range(window.columns.list.count())
+    ]
+    t = json.loads(TRUTH.read_text(encoding="utf-8"))
+    assert names == t["months"]["2026-10"]["columns"]  # header row, as the generator wrote it
+    window.columns.choose("Joined")
+    assert window.column == "Joined"
+    click_first_reading(qtbot, window)
+    assert window.fixlog.rows[0].sentence.startswith('Read "Joined" as dates')
+    truth = truth_of("2026-10", "Joined")
+    shown = reads_as(window)
+    read = {k: v for k, (v, state) in shown.items() if state.startswith("✓")}
+    assert len(read) > 200  # most of 300 rows read
+    wrong = {k: (v, truth[k]) for k, v in read.items() if v != truth[k]}
+    assert wrong == {}, "a cell shown as read must be its true date"
+    qtmodeltester.check(window.cells.model)
+    assert str(OCTOBER) in window.recent_files()
+
+
+@needs_samples
+def test_replay_october_log_on_november_shows_drift_then_problems_first(
+    qtbot, window, tmp_path, monkeypatch
+):
+    s = adopt(window, OCTOBER)
+    for col in ("Joined", "Renewal due", "Safety course"):
+        window.columns.choose(col)
+        click_first_reading(qtbot, window)
+    log_path = tmp_path / "october.json"
+    monkeypatch.setattr(window, "ask_save_log_path", lambda suggested: str(log_path))
+    window.act_save_log.trigger()
+    assert log_path.exists()
+    steps = len(s.log.entries)
+
+    monkeypatch.setattr(window, "ask_replay_paths", lambda: (str(log_path), str(NOVEMBER)))
+    with qtbot.waitSignal(window.job_started) as started:
+        window.act_replay.trigger()
+    with qtbot.waitSignal(started.args[0].ended, timeout=30_000):
+        pass
+    dialog = window.replay_dialog
+    assert dialog is not None and dialog.isVisible()
+    text = dialog.text.toPlainText()
+    # Drift planted in November (truth.json "november_drift"): a moved column, a new placeholder
+    # "tbc" in Safety course, a new "Nov 3, 2027" style in Renewal due.
+    assert "Safety course" in text
+    assert "tbc" in text
+    assert "Renewal due" in text
+    with qtbot.waitSignal(window.document_ready, timeout=10_000):
+        qtbot.mouseClick(dialog.use, Qt.MouseButton.LeftButton)
+    assert window.path == NOVEMBER
+    assert len(window.session.log.entries) == steps
+    assert window.cells.problems_first.isChecked()
+    window.columns.choose("Renewal due")
+    m = window.cells.model
+    states = [m.data(m.index(i, m.column_of(Column.STATE))) for i in range(m.rowCount())]
+    problems = [st for st in states if st.startswith(("✗", "?"))]
+    assert problems, "November's new date style is not read by October's reading"
+    assert states[: len(problems)] == problems  # problems first
+
+
+# ------------------------------------------------------------------------- small invented CSV
+def test_hand_set_by_double_click_then_undo_and_redo(qtbot, window, small_csv):
+    adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    shown = reads_as(window)
+    # Reference: datetime.strptime with day first (14/02/2021 decides the order).
+    assert shown["R001"] == (
+        dt.datetime.strptime("03/10/2019", "%d/%m/%Y").date().isoformat(),
+        "✓ read",
+    )
+    assert shown["R004"][1] == "✗ not read"  # 31 February does not exist (calendar.monthrange)
+    m, t = window.cells.model, window.cells.table
+    row = [m.data(m.index(i, m.column_of(Column.KEY))) for i in range(m.rowCount())].index("R004")
+    idx = m.index(row, m.column_of(Column.READS))
+    t.scrollTo(idx)
+    qtbot.mouseClick(t.viewport(), Qt.MouseButton.LeftButton, pos=t.visualRect(idx).center())
+    qtbot.mouseDClick(t.viewport(), Qt.MouseButton.LeftButton, pos=t.visualRect(idx).center())
+    editor = t.viewport().findChild(QLineEdit)
+    assert editor is not None, "double-click opens an editor"
+    editor.setText("2022-02-28")
+    with qtbot.waitSignal(window.table_refreshed):
+        qtbot.keyClick(editor, Qt.Key.Key_Return)
+    assert reads_as(window)["R004"] == ("2022-02-28", "✎ set by hand")
+    assert "R004" in window.fixlog.rows[-1].sentence
+    with qtbot.waitSignal(window.table_refreshed):
+        window.act_undo.trigger()
+    assert reads_as(window)["R004"] == ("", "✗ not read")
+    assert len(window.fixlog.rows) == 1
+    with qtbot.waitSignal(window.table_refreshed):
+        window.act_redo.trigger()
+    assert reads_as(window)["R004"] == ("2022-02-28", "✎ set by hand")
+
+
+def test_bad_hand_value_is_one_sentence_and_records_nothing(qtbot, window, small_csv):
+    s = adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    before = len(s.log.entries)
+    window.cells.model.hand_set_requested.emit(3, "31st of Feb")
+    qtbot.waitUntil(lambda: window.last_message is not None)
+    assert len(s.log.entries) == before
+    box = window.last_message
+    assert box is not None and "31st of Feb" in box.text() and "\n" not in box.text()
+
+
+def test_turn_tokens_to_blank(qtbot, window, small_csv):
+    s = adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    assert reads_as(window)["R009"][1] == "✗ not read"  # "ask Sam"
+    m, t = window.cells.model, window.cells.table
+    keys = [m.data(m.index(i, m.column_of(Column.KEY))) for i in range(m.rowCount())]
+    t.setCurrentIndex(m.index(keys.index("R009"), 0))
+    with qtbot.waitSignal(window.table_refreshed):
+        window.act_blank_value.trigger()
+    assert reads_as(window)["R009"] == ("", "○ blank")
+    assert s.log.entries[-1].step.tokens == ("ask Sam",)
+    if window.readings.blank_button.isVisible():  # the scan's own placeholder list, one click
+        n = len(s.log.entries)
+        with qtbot.waitSignal(window.table_refreshed):
+            qtbot.mouseClick(window.readings.blank_button, Qt.MouseButton.LeftButton)
+        assert len(s.log.entries) == n + 1
+
+
+def test_fix_log_panel_turns_off_moves_and_removes(qtbot, window, small_csv):
+    s = adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    window.columns.choose("Last outing")
+    click_first_reading(qtbot, window)
+    assert len(window.fixlog.rows) == 2
+    panel = window.fixlog
+    panel.list.setCurrentRow(1)
+    with qtbot.waitSignal(window.table_refreshed):
+        qtbot.mouseClick(panel.toggle, Qt.MouseButton.LeftButton)
+    assert s.log.entries[1].enabled is False and panel.rows[1].enabled is False
+    assert "Last outing" not in s.clean.parsed
+    panel.list.setCurrentRow(1)
+    with qtbot.waitSignal(window.table_refreshed):
+        qtbot.mouseClick(panel.up, Qt.MouseButton.LeftButton)
+    assert s.log.entries[0].step.column == "Last outing"
+    panel.list.setCurrentRow(0)
+    with qtbot.waitSignal(window.table_refreshed):
+        qtbot.mouseClick(panel.remove, Qt.MouseButton.LeftButton)
+    assert [e.step.column for e in s.log.entries] == ["Joined"]
+    with qtbot.waitSignal(window.table_refreshed):
+        window.act_undo.trigger()
+    assert len(s.log.entries) == 2
+
+
+def test_edits_apply_off_the_gui_thread_for_big_tables(qtbot, window, small_csv):
+    window.apply_in_thread_rows = 0  # treat this table as big
+    s = adopt(window, small_csv)
+    assert s.auto_apply is False
+    window.columns.choose("Joined")
+    with qtbot.waitSignal(window.job_started) as started:
+        qtbot.mouseClick(window.readings.cards[0].use, Qt.MouseButton.LeftButton)
+    with qtbot.waitSignals([started.args[0].ended, window.table_refreshed], timeout=10_000):
+        pass
+    assert reads_as(window)["R002"] == ("2021-02-14", "✓ read")
+
+
+def test_chart_bar_filters_the_table(qtbot, window, small_csv):
+    adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    bars = window.cells.chart.bars
+    i = next(k for k, b in enumerate(bars) if b.label == "2019")
+    window.cells.chart.choose(i)
+    assert list(reads_as(window)) == ["R001"]  # the only join date in 2019 (03/10/2019)
+    window.cells.chart.choose(None)
+    assert len(reads_as(window)) == 10
+
+
+def test_find_and_problem_filter(qtbot, window, small_csv):
+    adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    window.act_find.trigger()
+    qtbot.keyClicks(window.cells.find, "2022")
+    assert list(reads_as(window)) == ["R004"]
+    window.cells.find.clear()
+    window.act_problems.trigger()
+    assert set(reads_as(window)) == {"R004", "R009"}
+
+
+def test_cancel_a_long_job_from_the_window(qtbot, window):
+    started = threading.Event()
+
+    def slow(progress: Progress) -> None:
+        started.set()
+        i = 0
+        while True:  # only Progress.report raising Cancelled ends this
+            progress.report(i % 10, 10, "waiting")
+            i += 1
+            threading.Event().wait(0.002)
+
+    job = window.run_job("Waiting", slow, lambda _r: None)
+    with qtbot.waitSignal(job.progressed, timeout=5000):
+        pass
+    assert window.job_bar.isVisible() and window.act_stop.isEnabled()
+    with qtbot.waitSignals([job.cancelled, job.ended], timeout=5000):
+        qtbot.mouseClick(window.job_bar.stop, Qt.MouseButton.LeftButton)
+    assert "stopped" in window.status.text()
+    assert window.jobs == []
+
+
+def test_unreadable_file_is_one_sentence_traceback_in_log(qtbot, window, tmp_path, monkeypatch):
+    bad = tmp_path / "roster.xlsx"
+    bad.write_bytes(b"PK\x03\x04 not really a workbook")
+    job = window.open_file(bad)
+    with qtbot.waitSignal(job.ended, timeout=10_000):
+        pass
+    text = window.last_message.text()
+    assert "roster.xlsx" in text and "Traceback" not in text and "\n" not in text
+
+
+def test_internal_error_says_where_the_details_are(qtbot, window, tmp_path):
+    def broken(progress: Progress) -> None:
+        raise RuntimeError("kaput inside")
+
+    job = window.run_job("Breaking", broken, lambda _r: None)
+    with qtbot.waitSignal(job.ended, timeout=5000):
+        pass
+    text = window.last_message.text()
+    assert "kaput" not in text and "Traceback" not in text
+    log = tmp_path / "log" / "datemend.log"
+    assert str(log) in text
+    assert "RuntimeError: kaput inside" in log.read_text(encoding="utf-8")
+
+
+def test_drop_a_file_opens_it(qtbot, window, small_csv):
+    mime = QMimeData()
+    mime.setUrls([QUrl.fromLocalFile(str(small_csv))])
+    event = QDropEvent(
+        QPointF(10, 10),
+        Qt.DropAction.CopyAction,
+        mime,
+        Qt.MouseButton.LeftButton,
+        Qt.KeyboardModifier.NoModifier,
+    )
+    with qtbot.waitSignal(window.document_ready, timeout=20_000):
+        window.dropEvent(event)
+    assert window.path == small_csv
+    assert window.recent_files()[0] == str(small_csv)
+    assert window.recent_menu.actions()[0].toolTip() == str(small_csv)
+
+
+KEYS = [
+    ("act_open", "Ctrl+O"),
+    ("act_save_log", "Ctrl+S"),
+    ("act_undo", "Ctrl+Z"),
+    ("act_redo", "Ctrl+Shift+Z"),
+    ("act_find", "Ctrl+F"),
+    ("act_quit", "Ctrl+Q"),
+    ("act_replay", "Ctrl+R"),
+    ("act_export", "Ctrl+E"),
+    ("act_about", "F1"),
+]
+
+
+@pytest.mark.parametrize(("action", "keys"), KEYS, ids=[k[0] for k in KEYS])
+def test_shortcuts(window, action, keys):
+    # Shortcuts the brief asks for (Open Ctrl+O, Save Ctrl+S, Undo/Redo, Find, Quit) and ours.
+    assert QKeySequence(keys) in getattr(window, action).shortcuts()
+
+
+def test_no_shortcut_twice(window):
+    seen = [s.toString() for a in window.actions() for s in a.shortcuts()]
+    assert len(seen) == len(set(seen))
+
+
+def test_about_carries_the_cautions(qtbot, window):
+    window.act_about.trigger()
+    text = window.about_dialog.text.toPlainText()
+    assert "legal, medical or safety" in text and "local" in text.lower()
+    window.about_dialog.close()
+
+
+def test_export_dialog_writes_a_csv(qtbot, window, small_csv, tmp_path):
+    adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    window.act_export.trigger()
+    dialog = window.export_dialog
+    target = tmp_path / "out.csv"
+    dialog.path.setText(str(target))
+    with qtbot.waitSignal(window.job_started) as started:
+        qtbot.mouseClick(dialog.ok, Qt.MouseButton.LeftButton)
+    with qtbot.waitSignal(started.args[0].ended, timeout=10_000):
+        pass
+    lines = target.read_text(encoding="utf-8").splitlines()
+    assert lines[0].split(",")[:3] == ["Member no", "Name", "Joined"]
+    assert lines[1].split(",")[2] == "2019-10-03"  # 03/10/2019 day first (datetime.strptime)
+    assert window.last_export is not None
+
+
+def test_derive_dialog_previews_and_adds_an_age(qtbot, window, small_csv):
+    s = adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    window.act_derive.trigger()
+    d = window.derive_dialog
+    d.kind.setCurrentIndex(
+        next(i for i in range(d.kind.count()) if d.kind.itemData(i).kind == "age")
+    )
+    assert "local law" in d.note.text()
+    _params, w = d.inputs["as_of"]
+    w.setText("2026-10-31")
+    assert d.show_preview()
+    assert d.table.rowCount() > 0
+    with qtbot.waitSignal(window.table_refreshed):
+        qtbot.mouseClick(d.add, Qt.MouseButton.LeftButton)
+    assert s.log.entries[-1].step.kind == "age"
+    age = s.clean.derived[s.log.entries[-1].step.output_name].values
+    # 03/10/2019 → 2026-10-31: 7 completed years (by hand: 3 Oct 2026 has passed).
+    assert int(age.iloc[0]) == 7
+
+
+def test_no_readings_no_crash_on_empty_column(qtbot, window, tmp_path):
+    p = tmp_path / "empty.csv"
+    p.write_text("Member no,Joined\nR1,\nR2,\n", encoding="utf-8")
+    adopt(window, p)
+    window.columns.choose("Joined")
+    assert window.cells.model.rowCount() == 2
+    assert window.cells.chart.bars == []

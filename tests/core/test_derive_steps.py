@@ -358,3 +358,19 @@ def test_steps_are_row_local(step):
         part = make_table({k: [v[i] for i in rows] for k, v in MEMBERS.items()})
         parts.append(step.apply(part, CTX).derived[step.output_name].values)
     assert pd.concat(parts, ignore_index=True).tolist() == whole.tolist()
+
+
+def test_working_out_a_name_twice_warns():
+    t = make_table(MEMBERS)
+    t = Span(start="Joined", end="Last outing", output="X").apply(t, CTX)
+    t = Span(start="Joined", end="Last outing", unit="weeks", output="X").apply(t, CTX)
+    assert any("worked out twice" in w for w in t.warnings)
+    assert t.derived["X"].values.tolist()[-1] == -4  # the later (weeks) values: -29 days
+
+
+def test_zone_step_preview_shows_before_and_after():
+    t = make_table({"At": ["2026-07-01T12:00"]})
+    df = preview(ConvertZone(column="At", zone="UTC", naive_zone="Europe/Paris"), t)
+    # zoneinfo/tzdata: Paris is UTC+2 in July (summer time)
+    assert df.loc[0, "At"] == pd.Timestamp("2026-07-01 12:00")
+    assert df.loc[0, "At (after)"] == pd.Timestamp("2026-07-01 10:00")

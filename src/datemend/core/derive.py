@@ -156,6 +156,10 @@ class DerivedStep(Step):
             return _warn(table, f'"{name}" was not added: {err}')
         if warning:
             table = _warn(table, warning)
+        if name in table.derived:
+            table = _warn(
+                table, f'"{name}" was worked out twice; the later step\'s values are kept.'
+            )
         derived = dict(table.derived)
         derived[name] = DerivedColumn(name, values.reset_index(drop=True), note=self.note)
         return table.evolve(derived=derived)

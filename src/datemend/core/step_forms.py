@@ -80,6 +80,9 @@ def preview(
             cols[name] = date_series(small, name)
         except DeriveError:
             continue
+    for key, pc in after.parsed.items():
+        if small.parsed.get(key) is not pc and pc.output_name in cols:
+            cols[f"{pc.output_name} (after)"] = date_series(after, pc.output_name)
     for name, dc in after.derived.items():
         if small.derived.get(name) is not dc:
             cols[name] = dc.values

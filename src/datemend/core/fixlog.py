@@ -199,7 +199,9 @@ def unresolved_values(clean: CleanTable) -> dict[str, tuple[str, ...]]:
     for name, pc in clean.parsed.items():
         rows = np.flatnonzero(pc.state == CellState.FAILED)
         if len(rows) and name in clean.raw:
-            text = clean.raw.column(name).text().iloc[rows].fillna("").astype(object).str.strip()
+            from .rowkey import cells_text
+
+            text = cells_text(clean.raw.column(name), rows)
             values = [v[:MAX_VALUE_CHARS] for v in pd.unique(text)[:MAX_UNRESOLVED]]
             out[name] = tuple(dict.fromkeys(values))
     return out

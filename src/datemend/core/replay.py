@@ -21,7 +21,7 @@ import pandas as pd
 from .clean import CellState, CleanTable
 from .fixlog import FixLog, apply_log
 from .progress import Progress
-from .rowkey import find_rows
+from .rowkey import cells_text, find_rows
 from .spec import ParseSpec
 from .steps import ApplyContext, ReadDates, SetCell
 from .table import RawColumn, RawTable
@@ -522,7 +522,7 @@ def _groups(
 
     seen = set(known_values)
     known_shapes = {shape_of(v) for v in seen}
-    text = rc.text().iloc[rows].fillna("").astype(object).str.strip()
+    text = cells_text(rc, rows)
     codes, uniques = pd.factorize(text)
     u_counts = np.bincount(codes, minlength=len(uniques))
     u_shapes = np.array([shape_of(u) for u in uniques], dtype=object)
@@ -583,14 +583,14 @@ def _out_of_range(
     far = ok & ((values < lo - margin) | (values > hi + margin))
     idx = np.flatnonzero(far)
     assert raw.source_rows is not None
-    text = rc.text()
+    text = cells_text(rc, idx[:5])
     examples = tuple(
         (
             int(raw.source_rows[i]),
-            "" if text.iat[i] is None else str(text.iat[i]),
+            str(text.iat[k]),
             str(np.datetime_as_string(values[i], unit="s")),
         )
-        for i in idx[:5]
+        for k, i in enumerate(idx[:5])
     )
     return len(idx), examples
 
@@ -613,8 +613,7 @@ def _lost_keys(log: FixLog, raw: RawTable) -> tuple[LostKey, ...]:
             elif len(rows) > 1:
                 why = f"{len(rows)} rows have this key"
             elif s.raw is not None:
-                now = raw.column(s.column).text().iat[int(rows[0])]
-                now = "" if now is None else str(now).strip()
+                now = str(cells_text(raw.column(s.column), rows[:1]).iat[0])
                 if now != s.raw.strip():
                     why = f'its raw value changed from "{s.raw}" to "{now}"'
         if why is not None:

@@ -9,13 +9,21 @@ from __future__ import annotations
 
 import re
 import weakref
+from collections.abc import Sequence
 
 import numpy as np
 import pandas as pd
 
 from .table import CellKind, RawColumn, RawTable
 
-__all__ = ["detect_key_column", "find_rows", "is_key_column", "key_of_row", "key_text"]
+__all__ = [
+    "cells_text",
+    "detect_key_column",
+    "find_rows",
+    "is_key_column",
+    "key_of_row",
+    "key_text",
+]
 
 #: Header words that suggest an identifier (common practice, no source).
 _KEY_WORDS = re.compile(r"(^|[^a-z])(id|no|nr|num|number|key|code|ref|reference)([^a-z]|$)|#")
@@ -33,6 +41,13 @@ def key_text(column: RawColumn) -> pd.Index:
         idx = pd.Index(text.to_numpy(dtype=object), dtype=object)
         _index_cache[column] = idx
     return idx
+
+
+def cells_text(column: RawColumn, rows: np.ndarray | Sequence[int]) -> pd.Series:
+    """Some cells of a column as trimmed text ("" for empty), without converting the rest."""
+    rows = np.asarray(rows, dtype=np.int64)
+    part = RawColumn(column.name, column.values[rows], column.kinds[rows])
+    return part.text().fillna("").astype(object).str.strip().reset_index(drop=True)
 
 
 def is_key_column(column: RawColumn) -> bool:

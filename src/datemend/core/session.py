@@ -16,7 +16,7 @@ from .clean import CleanTable, ParsedColumn
 from .fixlog import FixLog, LogEntry, apply_entry
 from .progress import Progress
 from .report import ColumnReport, Suggestion
-from .rowkey import detect_key_column, key_of_row
+from .rowkey import cells_text, detect_key_column, key_of_row
 from .spec import ParseSpec
 from .steps import ApplyContext, BlankTokens, DatePart, ReadDates, RenameColumn, SetCell, Step
 from .table import RawTable
@@ -335,8 +335,7 @@ class Session:
         value for the same cell replaces the first step."""
         key_col = self._log.key_column
         key = key_of_row(self._raw, key_col, row)
-        text = self._raw.column(column).text().iat[row]
-        raw = None if text is None else str(text).strip()
+        raw = str(cells_text(self._raw.column(column), [row]).iat[0])
         step = SetCell(column, key, value, key_col, raw, note)
         for i, e in enumerate(self._log.entries):
             s = e.step

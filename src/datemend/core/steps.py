@@ -481,7 +481,9 @@ class SetCell(Step):
             )
         r = int(rows[0])
         if self.raw is not None:
-            now = _cell_text(table, self.column).iat[r]
+            from .rowkey import cells_text
+
+            now = cells_text(table.raw.column(self.column), [r]).iat[0]
             if now != self.raw.strip():
                 return _warn(
                     table,

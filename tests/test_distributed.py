@@ -273,3 +273,18 @@ def test_progress_is_reported_and_cancel_stops_the_run(dataset, log, tmp_path):
             progress=prog,
         )
     assert list((tmp_path / "b").iterdir()) == []
+
+
+SAMPLE = Path(__file__).resolve().parents[1] / "sample_files" / "rowing_club_2026-10.csv"
+
+
+@pytest.mark.skipif(not SAMPLE.exists(), reason="sample_files/ not built yet")
+def test_sample_csv_dialect_is_detected_and_values_match(tmp_path):
+    # the sample is written with semicolons in Windows-1252, as some spreadsheet exports are
+    raw = read_table(SAMPLE)
+    log = make_auto_log(raw)
+    result = replay_dask(log, [SAMPLE], out_dir=tmp_path / "out", today=TODAY)
+    expected = _single_machine(log, SAMPLE, tmp_path / "ref.csv")
+    got = _read_out(result.outputs[0])
+    pd.testing.assert_frame_equal(got, expected)
+    assert "Grip is Müller-ish, needs coaching" in got["Notes"].tolist()  # é/ü decoded right

@@ -366,13 +366,15 @@ def _csv_dialect(first: Path, sep: str | None, encoding: str | None) -> tuple[st
     """Delimiter and encoding: as given, else as the readers detect them in the first file."""
     if sep is not None and encoding is not None:
         return sep, encoding
-    from .core.readers import read_table
+    from .core.readers_text import detect_text_format
 
-    facts = read_table(first).facts
-    enc = encoding or facts.encoding or "utf-8"
+    fmt = detect_text_format(str(first))
+    enc = encoding or fmt.encoding or "utf-8"
     if enc.replace("_", "-").lower() in ("utf-8", "utf8"):
-        enc = "utf-8-sig"  # drops a byte-order mark if there is one, like the readers do
-    return sep or facts.delimiter or ",", enc
+        enc = "utf-8-sig"  # drops a byte-order mark if there is one, as the readers do
+    elif fmt.bom and enc.lower().startswith("utf-16"):
+        enc = "utf-16"  # the utf-16 codec reads the byte-order mark and drops it
+    return sep or fmt.delimiter or ",", enc
 
 
 def _output_names(files: list[Path], ext: str) -> list[str]:

@@ -95,6 +95,7 @@ def test_age_default_policy_is_mar1_and_stated():
     assert "28 February" in Age(birth="Born", leap_day="feb28").describe()
     leap = next(p for p in parameters(Age) if p["name"] == "leap_day")
     assert leap["default"] == "mar1" and "default" in leap["help"]
+    assert leap["choice_labels"]["mar1"] == "1 March (default)"
 
 
 def test_age_ignores_time_of_day():

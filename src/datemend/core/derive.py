@@ -70,9 +70,16 @@ AGE_CAUTION = (
 HOLIDAY_YEARS = (1900, 2199)
 
 
-def _p(label: str, param: str | None = None, help: str = "", **schema: Any) -> dict[str, Any]:
-    """Field metadata: the dialog's label, parameter type and help, and extra schema keywords."""
-    return {"label": label, "param": param, "help": help, "schema": schema}
+def _p(
+    label: str,
+    param: str | None = None,
+    help: str = "",
+    choices: dict[str, str] | None = None,
+    **schema: Any,
+) -> dict[str, Any]:
+    """Field metadata: the dialog's label, parameter type, help, a label for each choice, and
+    extra schema keywords."""
+    return {"label": label, "param": param, "help": help, "choices": choices, "schema": schema}
 
 
 def _col(label: str) -> Any:
@@ -189,7 +196,9 @@ class Span(DerivedStep):
     end: str = _col("To (date column)")
     unit: Literal["days", "days-exact", "weeks", "months", "years"] = field(
         default="days",
-        metadata=_p("Unit", help="; ".join(f"{k}: {v}" for k, v in _SPAN_UNITS.items())),
+        metadata=_p(
+            "Unit", help="; ".join(f"{k}: {v}" for k, v in _SPAN_UNITS.items()), choices=_SPAN_UNITS
+        ),
     )
     output: str = _output()
 
@@ -242,6 +251,7 @@ class Age(DerivedStep):
             "Born on 29 February: birthday in common years on",
             help="mar1: 1 March (default; as Maryland General Provisions §1-303(b)); "
             "feb28: 28 February. Follow your local law.",
+            choices={"mar1": "1 March (default)", "feb28": "28 February"},
         ),
     )
     output: str = _output()
@@ -319,13 +329,18 @@ class CalendarPart(DerivedStep):
     part: Literal[
         "year", "quarter", "month", "month-name", "day", "weekday", "weekday-name",
         "iso-year", "iso-week", "day-of-year", "fiscal-year", "fiscal-quarter", "date",
-    ] = field(default="year", metadata=_p("Part", help="; ".join(PARTS.values())))  # fmt: skip
+    ] = field(default="year", metadata=_p("Part", choices=PARTS))  # fmt: skip
     locale: str = field(default="en", metadata=_p("Language for names (CLDR locale)", "locale"))
     fiscal_start: int = field(
         default=1, metadata=_p("Fiscal year starts in month", minimum=1, maximum=12)
     )
     fiscal_label: Literal["end", "start"] = field(
-        default="end", metadata=_p("Fiscal year named by the year in which it", help=_FISCAL_HELP)
+        default="end",
+        metadata=_p(
+            "Fiscal year named by the year in which it",
+            help=_FISCAL_HELP,
+            choices={"end": "ends (July start: Jul 2026–Jun 2027 is 2027)", "start": "starts"},
+        ),
     )
     output: str = _output()
 

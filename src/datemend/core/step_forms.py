@@ -19,8 +19,10 @@ __all__ = ["parameters", "preview"]
 
 def parameters(cls: type[Step]) -> list[dict[str, Any]]:
     """The parameters of a step kind for a generic dialog: name, label, type, default, required,
-    choices (for a fixed set) and help. Types: "column", "column-or-none", "output", "as-of",
-    "text", "int", "bool", "choice", "locale", "country", "subdivision", "dates"."""
+    choices (for a fixed set) with a label for each in ``choice_labels`` where one is set, and
+    help. Types: "column", "column-or-none", "output", "as-of" (YYYY-MM-DD or "replay-day"),
+    "date-or-none", "text", "int", "bool", "choice", "locale", "country", "subdivision",
+    "zone", "zone-or-none", "dates" (a list of YYYY-MM-DD)."""
     hints = typing.get_type_hints(cls)
     out = []
     for f in dataclasses.fields(cls):  # type: ignore[arg-type]
@@ -41,6 +43,7 @@ def parameters(cls: type[Step]) -> list[dict[str, Any]]:
                 "default": None if required else f.default,
                 "required": required,
                 "choices": list(choices),
+                "choice_labels": dict(meta.get("choices") or {}),
                 "help": meta.get("help", ""),
                 "schema": meta.get("schema", {}),
             }

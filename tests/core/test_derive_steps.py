@@ -371,6 +371,7 @@ def test_working_out_a_name_twice_warns():
 
 def test_zone_step_preview_shows_before_and_after():
     t = make_table({"At": ["2026-07-01T12:00"]})
+    t = t.with_parsed(t.parsed["At"].evolve(has_time=np.ones(1, bool)))
     df = preview(ConvertZone(column="At", zone="UTC", naive_zone="Europe/Paris"), t)
     # zoneinfo/tzdata: Paris is UTC+2 in July (summer time)
     assert df.loc[0, "At"] == pd.Timestamp("2026-07-01 12:00")

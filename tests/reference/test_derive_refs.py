@@ -345,6 +345,8 @@ def test_convert_zone_naive_in_gap_and_fold_are_not_guessed():
     assert list(out.state) == [CellState.FAILED, CellState.AMBIGUOUS, CellState.PARSED]
     assert out.value[2] == np.datetime64("2026-07-01T10:00", "us")  # CEST is UTC+2
     assert out.offset_min[2] == 0
+    day_only = col.evolve(has_time=np.zeros(3, bool))
+    assert list(convert_zone(day_only, "UTC", naive_zone="Europe/Paris").value) == list(col.value)
     left = convert_zone(col, "UTC")  # no zone given for naive times: left as they are
     assert list(left.value) == list(col.value)
     assert list(left.offset_min) == [NAIVE] * 3

@@ -503,6 +503,8 @@ class ConvertZone(Step):
     def apply(self, table: CleanTable, ctx: ApplyContext) -> CleanTable:
         for pc in table.parsed.values():
             if pc.output_name == self.column:
+                if pc.date_only:
+                    return _warn(table, f'"{self.column}" holds dates only; nothing to move.')
                 return table.with_parsed(convert_zone(pc, self.zone, self.naive_zone))
         text = f'"{self.column}" is not read as dates, so moving it to {self.zone} did nothing.'
         return table if text in table.warnings else table.with_warning(text)

@@ -3,8 +3,9 @@
 Values that carry a UTC offset are moved to the wall-clock time of the chosen zone, and their
 offset becomes that zone's offset at that instant. Naive values (no offset written) are left
 alone, unless the step names the zone they were written in: then they are first placed in that
-zone. A naive time that zone skips (clocks forward) or repeats (clocks back) is not guessed: the
-cell becomes FAILED or AMBIGUOUS with the reason, so no time is silently shifted.
+zone (dates with no time of day stay as they are: they name a day, not an instant). A naive time
+that zone skips (clocks forward) or repeats (clocks back) is not guessed: the cell becomes
+FAILED or AMBIGUOUS with the reason, so no time is silently shifted.
 """
 
 from __future__ import annotations
@@ -57,7 +58,8 @@ def convert_zone(col: ParsedColumn, zone: str, naive_zone: str | None = None) ->
     utc[aware] = value[aware] - offset[aware].astype("timedelta64[m]")
     if naive_zone is not None:
         frm = check_zone(naive_zone, "naive_zone")
-        naive = usable & (offset == NAIVE) & (value > _LO) & (value < _HI)
+        # a date without a time of day names a day, not an instant: it is not moved
+        naive = usable & (offset == NAIVE) & col.has_time & (value > _LO) & (value < _HI)
         wall = pd.Series(value[naive])
         loc = wall.dt.tz_localize(frm, ambiguous="NaT", nonexistent="NaT")
         skipped = wall.dt.tz_localize(frm, ambiguous=np.ones(len(wall), bool), nonexistent="NaT")

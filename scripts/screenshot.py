@@ -42,18 +42,17 @@ def main(argv: list[str]) -> int:
         print("could not open", sample, msg, file=sys.stderr)
         return 1
     s = w.session
-    name = _pick_column(w)
+    # Read every date column with its best suggestion, then show the one with most to check.
+    dates = [n for n in s.raw.names if s.report(n).is_date and s.report(n).best is not None]
+    for n in dates:
+        s.use_suggestion(n, s.report(n).best)
+    name = _pick_column(w, dates)
     if name is not None:
         w.columns.choose(name)
-        rep = s.report(name)
-        if rep.best is not None and name not in s.clean.parsed:
-            s.use_suggestion(name, rep.best)
-        if rep.placeholders:
-            s.blank_tokens([rep.placeholders[0][0]], [name])
-        w.columns.choose(name)
-    app.processEvents()
-    w.cells.table.selectRow(0)
-    app.processEvents()
+        w.cells.problems_first.setChecked(True)
+        w.cells.table.selectRow(0)
+    for _ in range(5):  # let layout requests settle (word-wrapped labels take a few passes)
+        app.processEvents()
     out.parent.mkdir(exist_ok=True)
     w.grab().save(str(out))
     print(f"wrote {out} ({w.width()}×{w.height()})")
@@ -61,13 +60,12 @@ def main(argv: list[str]) -> int:
     return 0
 
 
-def _pick_column(w) -> str | None:
-    """The date column with the most going on: placeholders, then the lowest likeness."""
+def _pick_column(w, dates: list[str]) -> str | None:
+    """The read column with a few cells not read (the most telling picture), else the first."""
     s = w.session
-    dates = [n for n in s.raw.names if s.report(n).is_date]
-    if not dates:
-        return None
-    return max(dates, key=lambda n: (len(s.report(n).placeholders), -s.report(n).likeness))
+    todo = {n: s.clean.parsed[n].counts()["failed"] for n in dates if n in s.clean.parsed}
+    some = [n for n, k in todo.items() if k]
+    return max(some, key=todo.get) if some else (dates[0] if dates else None)
 
 
 if __name__ == "__main__":

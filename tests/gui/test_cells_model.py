@@ -69,7 +69,7 @@ def test_modeltester_passes_on_every_filter(qtmodeltester):
 def test_columns_and_cells_show_raw_beside_parsed(model):
     assert [model.headerData(i, Qt.Orientation.Horizontal) for i in range(model.columnCount())] == [
         "Row",
-        "Key (Member no)",
+        "Member no",
         "As written",
         "Reads as",
         "State",

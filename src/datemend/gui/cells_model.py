@@ -43,6 +43,16 @@ class Column(Enum):
 
 COLUMNS: tuple[Column, ...] = tuple(Column)
 
+_HEADER_TIPS = {
+    Column.ROW: "Row number in the file or sheet (the header is above the first).",
+    Column.KEY: "The key column: its value finds this row again for cells set by hand.",
+    Column.RAW: "The cell exactly as the file holds it; never changed.",
+    Column.READS: "The date it becomes (ISO 8601). Double-click or F2 to set it by hand.",
+    Column.STATE: "✓ read · ○ blank · ✗ not read · ? unclear · ✎ set by hand",
+    Column.PATTERN: "The way of writing dates that read this cell.",
+    Column.NOTE: "Why a cell was not read, is unclear, or is blank.",
+}
+
 
 @dataclass(frozen=True)
 class RowFilter:
@@ -220,13 +230,19 @@ class CellsModel(QAbstractTableModel):
     def headerData(
         self, section: int, orientation: Qt.Orientation, role: int = Qt.ItemDataRole.DisplayRole
     ) -> object:
+        if (
+            role == Qt.ItemDataRole.ToolTipRole
+            and orientation == Qt.Orientation.Horizontal
+            and 0 <= section < len(self._columns)
+        ):
+            return _HEADER_TIPS.get(self._columns[section])
         if role != Qt.ItemDataRole.DisplayRole:
             return None
         if orientation == Qt.Orientation.Horizontal:
             if 0 <= section < len(self._columns):
                 col = self._columns[section]
                 if col is Column.KEY and self._source is not None and self._source.key_name:
-                    return f"Key ({self._source.key_name})"
+                    return self._source.key_name
                 return col.value
             return None
         return None

@@ -32,13 +32,13 @@ from .chart import DateSpread
 __all__ = ["CellsPane"]
 
 _WIDTHS = {
-    Column.ROW: 48,
-    Column.KEY: 92,
-    Column.RAW: 150,
-    Column.READS: 150,
-    Column.STATE: 105,
-    Column.PATTERN: 110,
-    Column.NOTE: 240,
+    Column.ROW: 44,
+    Column.KEY: 60,
+    Column.RAW: 112,
+    Column.READS: 100,
+    Column.STATE: 96,
+    Column.PATTERN: 96,
+    Column.NOTE: 200,
 }
 
 
@@ -74,13 +74,18 @@ class CellsPane(QWidget):
         self.find.setAccessibleName("Find a value")
         self.problems_first = QCheckBox("Problems &first")
         self.count = QLabel()
+        self.find.setMinimumWidth(150)
+        head = QHBoxLayout()
+        head.addWidget(self.title)
+        head.addStretch(1)
+        head.addWidget(self.count)
         bar = QHBoxLayout()
-        bar.addWidget(self.title)
-        bar.addWidget(QLabel("Show:"))
+        show = QLabel("&Show:")
+        show.setBuddy(self.show_box)
+        bar.addWidget(show)
         bar.addWidget(self.show_box)
         bar.addWidget(self.find, 1)
         bar.addWidget(self.problems_first)
-        bar.addWidget(self.count)
 
         self.table = QTableView()
         self.table.setObjectName("cellsTable")
@@ -118,6 +123,7 @@ class CellsPane(QWidget):
         split.setChildrenCollapsible(False)
         lay = QVBoxLayout(self)
         lay.setContentsMargins(0, 0, 0, 0)
+        lay.addLayout(head)
         lay.addLayout(bar)
         lay.addWidget(split, 1)
 

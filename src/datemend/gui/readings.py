@@ -15,6 +15,7 @@ import dataclasses
 import html
 
 from PySide6.QtCore import Qt, Signal
+from PySide6.QtGui import QResizeEvent
 from PySide6.QtWidgets import (
     QComboBox,
     QFormLayout,
@@ -24,6 +25,7 @@ from PySide6.QtWidgets import (
     QLineEdit,
     QPushButton,
     QScrollArea,
+    QSizePolicy,
     QSpinBox,
     QVBoxLayout,
     QWidget,
@@ -40,6 +42,14 @@ _DECISION_WORDS = {
     "preference": "your stated preference",
     "default": "a default",
     "undecided": "not decided — cells stay unclear",
+}
+
+
+_CHOICE_WORDS = {
+    "day_order": "day and month",
+    "century": "two-digit years",
+    "date_system": "serial numbers",
+    "zone": "zone",
 }
 
 
@@ -69,7 +79,8 @@ def suggestion_html(rank: int, s: Suggestion) -> str:
         out.append(f"<br><span style='color:{OKABE_ITO['vermillion']}'>⚠ {_e(line)}</span>")
     if s.decisions:
         words = "; ".join(
-            f"{_e(k)}: {_DECISION_WORDS.get(v, _e(v))}" for k, v in s.decisions.items()
+            f"{_CHOICE_WORDS.get(k, _e(k))}: {_DECISION_WORDS.get(v, _e(v))}"
+            for k, v in s.decisions.items()
         )
         out.append(f"<br><small>{words}</small>")
     if s.disagreements:
@@ -93,6 +104,8 @@ class _Card(QFrame):
         self.text = QLabel(suggestion_html(rank, s))
         self.text.setWordWrap(True)
         self.text.setTextFormat(Qt.TextFormat.RichText)
+        self.text.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Minimum)
+        self.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Minimum)
         self.use = QPushButton("Use this reading")
         self.use.setAccessibleName(f"Use reading {rank}: {s.label}")
         lay.addWidget(self.text)
@@ -100,6 +113,11 @@ class _Card(QFrame):
         row.addStretch(1)
         row.addWidget(self.use)
         lay.addLayout(row)
+
+    def resizeEvent(self, event: QResizeEvent) -> None:
+        # A word-wrapped label inside a scroll area does not ask for its full height by itself.
+        super().resizeEvent(event)
+        self.text.setMinimumHeight(self.text.heightForWidth(self.text.width()))
 
 
 class ReadingsPanel(QWidget):
@@ -173,6 +191,7 @@ class ReadingsPanel(QWidget):
         self.report = report
         for card in self.cards:
             self._cards_lay.removeWidget(card)
+            card.hide()  # at once: deleteLater alone leaves it painted under the new cards
             card.deleteLater()
         self.cards = []
         if report is None:

@@ -17,9 +17,9 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from .clean import NAIVE, CellState
-from .fields import EV_BOTH_SMALL, EV_DMY, EV_MDY, Reading, read_pattern
+from .fields import EV_BOTH_SMALL, EV_DMY, EV_MDY, Reading, features, read_pattern
 from .names import LANGUAGES
-from .parse import DATE_CELL, _apply_zone, _num_text, iso_text, normalise, parse_texts
+from .parse import DATE_CELL, _apply_zone, distinct_texts, iso_text, normalise, parse_texts
 from .patterns import PATTERNS, label, mix_label, pattern
 from .report import CellNote, Suggestion
 from .spec import ParseSpec
@@ -153,16 +153,18 @@ class Census:
     aware: bool = False
     digit_alternatives: list[dict[str, str]] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    notes_evidence: list[str] = field(default_factory=list)
+    notes_warn: list[str] = field(default_factory=list)
+    rivals: list[str] = field(default_factory=list)
     sample_note: str | None = None
+    parsed_cache: dict = field(default_factory=dict)
 
 
 def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     """Read up to ``sample`` distinct values of ``column`` with every pattern."""
     kinds = column.kinds
-    textual = np.isin(kinds, (CellKind.TEXT, CellKind.INT, CellKind.FLOAT, CellKind.ERROR))
-    rows_t = np.flatnonzero(textual)
-    codes, uniques = pd.factorize(column.values[rows_t])
-    texts = np.array([u if isinstance(u, str) else _num_text(u) for u in uniques], dtype=object)
+    rows_t, codes, texts = distinct_texts(column)
+    uniques = texts
     weights = np.bincount(codes, minlength=len(uniques)).astype(np.int64)
     first = np.full(len(uniques), -1, dtype=np.int64)
     first[codes[::-1]] = np.arange(len(codes))[::-1]
@@ -171,7 +173,9 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     if len(uniques) > sample:
         # Deterministic: the most frequent half, and the rest spread evenly over the file order.
         by_weight = np.argsort(-weights, kind="stable")[: sample // 2]
-        rest = np.setdiff1d(sel, by_weight)
+        keep = np.ones(len(uniques), dtype=bool)
+        keep[by_weight] = False
+        rest = np.flatnonzero(keep)
         spread = rest[np.linspace(0, len(rest) - 1, sample - len(by_weight)).astype(np.int64)]
         sel = np.sort(np.concatenate([by_weight, spread]))
         note = (
@@ -185,7 +189,10 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
         date_system=facts.date_system,
         locales=tuple(LANGUAGES),
     )
-    readings = {pid: read_pattern(pattern(pid), norm, spec) for pid in spec.patterns}
+    feats = features(norm)
+    readings = {
+        pid: read_pattern(pattern(pid), norm, spec, feats, explain=False) for pid in spec.patterns
+    }
     dated_mask = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
     examples = tuple((str(v), v.isoformat()) for v in pd.unique(column.values[dated_mask][:50])[:2])
     c = Census(
@@ -224,7 +231,7 @@ def _languages(c: Census) -> tuple[str, ...]:
         spec = ParseSpec(patterns=names, locales=(lang,))
         hit = np.zeros(len(sub), dtype=bool)
         for p in names:
-            hit |= read_pattern(pattern(p), sub, spec).ok
+            hit |= read_pattern(pattern(p), sub, spec, explain=False).ok
         covered[lang] = hit
     chosen: list[str] = []
     left = np.ones(len(sub), dtype=bool)
@@ -267,39 +274,58 @@ def _window(pid: str, ref_year: int) -> tuple[int, int]:
 
 def choose_patterns(c: Census, ref_year: int) -> list[str]:
     """Patterns the column uses: text shapes that occur, then the number readings that make
-    plausible dates, in the order they were chosen (that order is their priority)."""
+    plausible dates, in the order they were chosen (that order is their priority). Number
+    readings that tie (every value fits YYMMDD and DDMMYY alike) become ``c.rivals``."""
     live = _live(c)
     chosen = [p for p in TEXT_PATTERNS if (c.readings[p].matched & live & ~c.digit).any()]
-    if "iso-ordinal" not in chosen and (c.readings["iso-ordinal"].matched & live & ~c.digit).any():
-        chosen.append("iso-ordinal")
+    # Digit patterns with a text form too: "1985-102", "19850412T101530Z".
+    chosen += [p for p in DIGIT_PATTERNS if (c.readings[p].matched & live & ~c.digit).any()]
     left = live & c.digit
     digits: list[str] = []
     total = int(c.weights[left].sum())
+
+    def plausible(p: str, rows: np.ndarray) -> np.ndarray:
+        r = c.readings[p]
+        lo, hi = _window(p, ref_year)
+        return r.ok & rows & (r.year >= lo) & (r.year <= hi)
+
     while left.any() and len(digits) < 3:
-        best, best_w, best_mask = None, 0, None
-        for p in DIGIT_PATTERNS:
-            if p in digits or p in chosen:
-                continue
-            r = c.readings[p]
-            lo, hi = _window(p, ref_year)
-            plausible = r.ok & left & (r.year >= lo) & (r.year <= hi)
-            w = int(c.weights[plausible].sum())
-            if w > best_w:
-                best, best_w, best_mask = p, w, plausible
-        if best is None or best_w == 0 or (digits and best_w < 0.01 * total):
+        options = [p for p in DIGIT_PATTERNS if p not in digits and p not in chosen]
+        weights = {p: int(c.weights[plausible(p, left)].sum()) for p in options}
+        best = max(options, key=lambda p: weights[p], default=None)
+        if best is None or weights[best] == 0 or (digits and weights[best] < 0.01 * total):
             break
         if not digits:
-            for q in DIGIT_PATTERNS:
-                if q == best or q in chosen:
+            mine = plausible(best, left)
+            for q in options:
+                if q == best or weights[q] == 0:
                     continue
-                r = c.readings[q]
-                lo, hi = _window(q, ref_year)
-                w = int(c.weights[r.ok & left & (r.year >= lo) & (r.year <= hi)].sum())
-                if w >= 0.5 * best_w:
+                theirs = plausible(q, left)
+                r, rq = c.readings[best], c.readings[q]
+                differ = (mine & theirs & (r.value != rq.value)).any()
+                if not differ:
+                    continue
+                if not (theirs & ~mine).any() and (mine & ~theirs).any():
+                    # q reads a subset of what best reads: the values outside decide.
                     c.digit_alternatives.append({best: q})
-        digits.append(best)
-        left &= ~c.readings[best].ok
-        del best_mask
+                    c.notes_evidence.append(
+                        f"numbers read as {label(best, date_system=c.facts.date_system)}: "
+                        f"{int(c.weights[mine & ~theirs].sum())} values fit only that reading"
+                        f" and not {label(q, date_system=c.facts.date_system)}"
+                    )
+                else:
+                    c.rivals.append(q)
+            if c.rivals:
+                c.rivals.insert(0, best)
+                names = ", ".join(label(p, date_system=c.facts.date_system) for p in c.rivals)
+                c.notes_warn.append(
+                    f"the numbers fit several readings ({names}) and nothing in the column "
+                    "decides; values they read differently stay ambiguous"
+                )
+        group = c.rivals if (not digits and c.rivals) else [best]
+        digits.extend(group)
+        for g in group:
+            left &= ~c.readings[g].ok
     if not digits and (c.digit & live).any():
         # Numbers but none plausible: keep the serial reading so each one gets a reason.
         digits.append("serial")
@@ -458,7 +484,6 @@ def build_suggestion(
     total = parsed + failed + amb
     mix: list[tuple[str, str, int]] = []
     examples: list[tuple[str, str]] = []
-    iso = iso_text(res.value, res.offset, res.has_time)
     for k, pid in enumerate(spec.patterns):
         m = parsed_m & (res.pattern == k)
         cnt = int(w[m].sum())
@@ -467,8 +492,8 @@ def build_suggestion(
         two = int(w[m & res.two_digit].sum()) * 2 > cnt
         lab = label(pid, day_order=spec.day_order, date_system=spec.date_system, two_digit_year=two)
         mix.append((pid, lab, cnt))
-        j = np.flatnonzero(m)[0]
-        examples.append((str(c.texts[j]), str(iso[j])))
+        j = np.flatnonzero(m)[:1]
+        examples.append((str(c.texts[j[0]]), str(iso_text(*_at(res, j))[0])))
     if c.dated:
         mix.append((DATE_CELL, label(DATE_CELL), c.dated))
         examples.extend(c.date_examples[:1])
@@ -488,7 +513,7 @@ def build_suggestion(
         ev.append("treated as blank: " + ", ".join(f'"{t}"' for t in c.blank_tokens))
     warn = list(warnings)
     for s in SENTINELS:
-        hits = int(w[parsed_m & (iso == s)].sum())
+        hits = int(w[parsed_m & (res.value == np.datetime64(s, "us"))].sum())
         if hits:
             warn.append(
                 f"{hits} values are {s}, a date often written to mean 'no date'; kept as dates"
@@ -511,13 +536,22 @@ def build_suggestion(
     )
 
 
+def _at(res, j: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    return res.value[j], res.offset[j], res.has_time[j]
+
+
 def disagreements(c: Census, a: ParseSpec, b: ParseSpec) -> tuple[tuple[str, str, str], ...]:
+    """Values the two readings turn into different dates (or one reads and the other not)."""
     ra, rb = _parse_sample(c, a), _parse_sample(c, b)
-    ia = np.where(ra.state == CellState.PARSED, iso_text(ra.value, ra.offset, ra.has_time), "")
-    ib = np.where(rb.state == CellState.PARSED, iso_text(rb.value, rb.offset, rb.has_time), "")
-    diff = np.flatnonzero((ia != ib) & _live(c))
+    pa_, pb_ = ra.state == CellState.PARSED, rb.state == CellState.PARSED
+    va = np.where(pa_, ra.value, np.datetime64("NaT"))
+    vb = np.where(pb_, rb.value, np.datetime64("NaT"))
+    same = (pa_ == pb_) & ((~pa_) | ((va == vb) & (ra.offset == rb.offset)))
+    diff = np.flatnonzero(~same & _live(c))
     diff = diff[np.argsort(-c.weights[diff], kind="stable")][:10]
-    return tuple((str(c.texts[j]), ia[j] or "unresolved", ib[j] or "unresolved") for j in diff)
+    ia = np.where(pa_[diff], iso_text(*_at(ra, diff)), "unresolved")
+    ib = np.where(pb_[diff], iso_text(*_at(rb, diff)), "unresolved")
+    return tuple((str(c.texts[j]), str(x), str(y)) for j, x, y in zip(diff, ia, ib, strict=True))
 
 
 def likeness_of(c: Census, best: Suggestion, name: str, ref_year: int) -> float:

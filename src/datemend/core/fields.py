@@ -19,7 +19,7 @@ from .names import month_lookup, weekday_lookup
 from .patterns import Pattern
 from .spec import ParseSpec
 
-__all__ = ["Reading", "days_from_civil", "read_pattern"]
+__all__ = ["Reading", "days_from_civil", "features", "read_pattern"]
 
 US_PER_DAY = 86_400_000_000
 _MONTHS = [
@@ -153,13 +153,63 @@ class _Check:
             self.bad |= new
 
 
-def read_pattern(p: Pattern, texts: pa.Array, spec: ParseSpec) -> Reading:
-    """Read ``texts`` (normalised, see ``parse.normalise``) with pattern ``p`` under ``spec``."""
+def features(texts: pa.Array) -> dict[str, np.ndarray]:
+    """Cheap per-text features that say which patterns are worth trying (``Pattern.needs``)."""
+
+    def has(s: str) -> np.ndarray:
+        return pc.match_substring(texts, s).to_numpy(zero_copy_only=False)
+
+    return {
+        "digits": pc.match_substring_regex(texts, r"^-?\d+(?:\.\d*)?$").to_numpy(
+            zero_copy_only=False
+        ),
+        "alpha": pc.match_substring_regex(texts, r"\pL").to_numpy(zero_copy_only=False),
+        "slash": has("/"),
+        "dash": has("-"),
+        "dot": has("."),
+        "space": has(" "),
+        "w": has("w"),
+        "t": has("t"),
+    }
+
+
+def read_pattern(
+    p: Pattern,
+    texts: pa.Array,
+    spec: ParseSpec,
+    feats: dict[str, np.ndarray] | None = None,
+    *,
+    explain: bool = True,
+) -> Reading:
+    """Read ``texts`` (normalised, see ``parse.normalise``) with pattern ``p`` under ``spec``.
+    ``feats`` (from ``features(texts)``) lets the regex skip texts that cannot match; without
+    ``explain`` no reason sentences are written (the scan's census needs only the counts)."""
+    _Check.explain = explain
+    try:
+        return _read(p, texts, spec, feats)
+    finally:
+        _Check.explain = True
+
+
+def _read(
+    p: Pattern, texts: pa.Array, spec: ParseSpec, feats: dict[str, np.ndarray] | None
+) -> Reading:
     n = len(texts)
-    struct = pc.extract_regex(texts, p.shape) if n else None
     matched = np.zeros(n, dtype=bool)
-    if n:
-        matched = struct.is_valid().to_numpy(zero_copy_only=False)
+    struct = None
+    if n and feats is not None and p.needs:
+        cand = np.zeros(n, dtype=bool)
+        for f in p.needs:
+            cand |= feats[f]
+        if cand.any():
+            ci = np.flatnonzero(cand)
+            s_sub = pc.extract_regex(texts.take(pa.array(ci)), p.shape)
+            matched[ci] = s_sub.is_valid().to_numpy(zero_copy_only=False)
+            struct = s_sub.filter(s_sub.is_valid())
+    elif n:
+        full = pc.extract_regex(texts, p.shape)
+        matched = full.is_valid().to_numpy(zero_copy_only=False)
+        struct = full.filter(full.is_valid())
     out = Reading(
         matched=matched,
         ok=np.zeros(n, dtype=bool),
@@ -175,7 +225,7 @@ def read_pattern(p: Pattern, texts: pa.Array, spec: ParseSpec) -> Reading:
     if not matched.any():
         return out
     idx = np.flatnonzero(matched)
-    sub = struct.filter(pa.array(matched))
+    sub = struct
     k = len(idx)
     res = _read_fields(p, sub, k, spec)
     live = res.pop("live")
@@ -315,7 +365,7 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
     amb &= ~chk.bad
     ok = ~chk.bad & ~amb
     reason = chk.reason
-    if amb.any():
+    if amb.any() and _Check.explain:
         ia = np.flatnonzero(amb)
         reason[ia] = np.array(
             [

@@ -34,6 +34,7 @@ from .evidence import (
     likeness_of,
     placeholders_of,
 )
+from .patterns import label
 from .progress import Progress
 from .report import ColumnReport
 from .spec import ParseSpec
@@ -84,6 +85,11 @@ def scan_column(
         notes.append(sys_note)
     zone_warn = decide_zone(census, patterns)
     decisions["zone"] = "default"
+    if census.rivals:
+        decisions["numbers"] = "undecided"
+    elif census.notes_evidence:
+        decisions["numbers"] = "evidence"
+    notes += census.notes_evidence
     base = ParseSpec(
         patterns=tuple(patterns),
         day_order=day_order,
@@ -92,8 +98,9 @@ def scan_column(
         date_system=facts.date_system,
         blank_tokens=census.blank_tokens,
         locales=census.locales,
+        rivals=tuple(census.rivals),
     )
-    warnings = [*warn_order, *zone_warn, *census.notes]
+    warnings = [*warn_order, *zone_warn, *census.notes_warn, *census.notes]
     candidates = [(base, 1.0, dict(decisions), notes, warnings)]
     candidates += _alternatives(base, census, decisions, prefer_day_order, ref_year)
     suggestions = [
@@ -162,6 +169,17 @@ def _alternatives(
                 0.95,
                 dict(decisions, zone="preference"),
                 ["values with a UTC offset moved to UTC (naive values stay as written)"],
+                [],
+            )
+        )
+    for pick in census.rivals:
+        pats = tuple(p for p in base.patterns if p not in census.rivals or p == pick)
+        out.append(
+            (
+                _evolve(base, patterns=pats, rivals=()),
+                0.5,
+                dict(decisions, numbers="preference"),
+                [f"reads every number as {label(pick, date_system=base.date_system)}: a guess"],
                 [],
             )
         )

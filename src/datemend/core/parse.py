@@ -11,6 +11,7 @@ are kept as they are.
 
 from __future__ import annotations
 
+import weakref
 from dataclasses import dataclass
 
 import numpy as np
@@ -19,7 +20,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from .clean import NAIVE, CellState, ParsedColumn
-from .fields import Reading, read_pattern
+from .fields import Reading, features, read_pattern
 from .names import ORDINAL_SUFFIX_RE
 from .patterns import label, pattern
 from .spec import ParseSpec
@@ -43,9 +44,25 @@ _FILLER = r"(^| )(?:de|del|of|the|le|el|den|der|il|lo|op|em)( |$)"
 _TIME_ONLY = r"^\d{1,2}:\d{2}(?::\d{2}(?:[.,]\d+)?)?(?: ?[ap]m)?$"
 
 
+#: Texts that need nothing but lower case: digits and separators, or a plain ISO date-time.
+_CLEAN = (
+    r"^(?:[0-9][0-9/.:-]*[0-9]|"
+    r"\d{4}-\d\d-\d\d[t ]\d\d:\d\d(?::\d\d(?:[.,]\d+)?)?(?:z|[+-]\d\d(?::?\d\d)?)?)$"
+)
+
+
 def normalise(texts: pa.Array) -> pa.Array:
     """Lower-case, single-spaced text with the noise of exports removed (see module doc)."""
-    t = pc.utf8_lower(texts)
+    lower = pc.utf8_lower(texts)
+    messy = pc.invert(pc.match_substring_regex(lower, _CLEAN)).fill_null(True)
+    if not pc.any(messy).as_py():
+        return lower
+    mi = np.flatnonzero(messy.to_numpy(zero_copy_only=False))
+    fixed = _normalise_messy(lower.take(pa.array(mi)))
+    return pc.replace_with_mask(lower, messy, fixed)
+
+
+def _normalise_messy(t: pa.Array) -> pa.Array:
     t = pc.replace_substring_regex(t, _SPACES, " ")
     t = pc.utf8_trim(t, _EDGE)
     t = pc.utf8_rtrim(t, ".")
@@ -123,13 +140,22 @@ def parse_texts(texts: object, spec: ParseSpec) -> TextResult:
     blank |= nothing
     out.state[blank] = CellState.BLANK
     remaining = np.flatnonzero(~blank)
+    feats = features(norm)
+    rivals_done = False
     for k, pid in enumerate(spec.patterns):
         if len(remaining) == 0:
             break
-        if pid == DATE_CELL:
+        if pid == DATE_CELL or (pid in spec.rivals and rivals_done):
             continue
-        r = read_pattern(pattern(pid), norm.take(pa.array(remaining)), spec)
-        _take(out, remaining, r, k)
+        sub = norm.take(pa.array(remaining))
+        sub_feats = {f: v[remaining] for f, v in feats.items()}
+        if pid in spec.rivals:
+            rivals_done = True
+            r, ks = _read_rivals(sub, sub_feats, spec)
+        else:
+            r = read_pattern(pattern(pid), sub, spec, sub_feats)
+            ks = np.full(len(remaining), k, dtype=np.int16)
+        _take(out, remaining, r, ks)
         done = r.ok | r.ambiguous
         remaining = remaining[~done]
     if len(remaining):
@@ -137,14 +163,67 @@ def parse_texts(texts: object, spec: ParseSpec) -> TextResult:
     return out
 
 
-def _take(out: TextResult, rows: np.ndarray, r: Reading, k: int) -> None:
+def _read_rivals(
+    texts: pa.Array, feats: dict[str, np.ndarray], spec: ParseSpec
+) -> tuple[Reading, np.ndarray]:
+    """Read texts with every rival pattern; where two read a text as different dates the
+    result is ambiguous, otherwise the first that reads it wins."""
+    n = len(texts)
+    comb = Reading(
+        matched=np.zeros(n, bool),
+        ok=np.zeros(n, bool),
+        ambiguous=np.zeros(n, bool),
+        value=np.zeros(n, np.int64),
+        offset=np.full(n, NAIVE, np.int32),
+        has_time=np.zeros(n, bool),
+        reason=np.full(n, None, object),
+        order=np.zeros(n, np.int8),
+        two_digit=np.zeros(n, bool),
+        year=np.zeros(n, np.int64),
+    )
+    ks = np.full(n, -1, dtype=np.int16)
+    reads = []
+    for k, pid in enumerate(spec.patterns):
+        if pid not in spec.rivals:
+            continue
+        r = read_pattern(pattern(pid), texts, spec, feats)
+        reads.append((k, pid, r))
+        take = r.ok & ~comb.ok
+        for f in ("value", "offset", "has_time", "order", "two_digit", "year"):
+            getattr(comb, f)[take] = getattr(r, f)[take]
+        ks[take] = k
+        comb.ok |= take
+        first_fail = r.matched & ~r.ok & ~comb.matched
+        comb.reason[first_fail] = r.reason[first_fail]
+        ks[first_fail] = k
+        comb.matched |= r.matched
+    conflict = np.zeros(n, bool)
+    for _, _, r in reads:
+        conflict |= r.ok & comb.ok & ((r.value != comb.value) | (r.offset != comb.offset))
+    if conflict.any():
+        idx = np.flatnonzero(conflict)
+        texts_by = []
+        for _, pid, r in reads:
+            iso = iso_text(r.value[idx].view("datetime64[us]"), r.offset[idx], r.has_time[idx])
+            lab = label(pid, day_order=spec.day_order, date_system=spec.date_system)
+            texts_by.append(np.where(r.ok[idx], [f"{t} ({lab})" for t in iso], ""))
+        comb.reason[idx] = [
+            "could be " + " or ".join(t for t in row if t) + "; nothing in the column decides"
+            for row in zip(*texts_by, strict=True)
+        ]
+    comb.ambiguous = conflict
+    comb.ok &= ~conflict
+    return comb, ks
+
+
+def _take(out: TextResult, rows: np.ndarray, r: Reading, ks: np.ndarray) -> None:
     done = r.ok | r.ambiguous
     at = rows[done]
     out.value[at] = r.value[done].view("datetime64[us]")
     out.offset[at] = r.offset[done]
     out.has_time[at] = r.has_time[done]
     out.state[at] = np.where(r.ok[done], CellState.PARSED, CellState.AMBIGUOUS)
-    out.pattern[at] = k
+    out.pattern[at] = ks[done]
     out.reason[at] = np.where(r.ok[done], None, r.reason[done])
     amb_at = rows[r.ambiguous]
     out.value[amb_at] = np.datetime64("NaT")
@@ -156,7 +235,7 @@ def _take(out: TextResult, rows: np.ndarray, r: Reading, k: int) -> None:
     failed = r.matched & ~done
     first = failed & (out.pattern[rows] < 0)
     out.reason[rows[first]] = r.reason[first]
-    out.pattern[rows[first]] = k
+    out.pattern[rows[first]] = ks[first]
 
 
 def _explain_unread(out: TextResult, rows: np.ndarray, norm: pa.Array, spec: ParseSpec) -> None:
@@ -249,6 +328,33 @@ def _num_text(v: object) -> str:
     return str(v)
 
 
+#: Cell kinds read as text (numbers too: serials and epochs are written as numbers).
+TEXT_LIKE = np.zeros(len(CellKind), dtype=bool)
+TEXT_LIKE[[CellKind.TEXT, CellKind.INT, CellKind.FLOAT, CellKind.ERROR]] = True
+
+_DISTINCT: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
+def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(row positions of text-like cells, code of each, distinct texts), computed once per
+    column (a RawColumn is never changed, so the scan and the parse share the work)."""
+    hit = _DISTINCT.get(column)
+    if hit is not None:
+        return hit
+    kinds = column.kinds
+    textual = TEXT_LIKE[kinds]
+    all_text = bool(textual.all())
+    rows = np.arange(len(column)) if all_text else np.flatnonzero(textual)
+    vals = column.values if all_text else column.values[rows]
+    codes, uniques = pd.factorize(vals)
+    mixed = pd.api.types.infer_dtype(uniques, skipna=False) != "string"
+    if mixed or (kinds[rows] != CellKind.TEXT).any():
+        uniques = np.array([_num_text(u) for u in uniques], dtype=object)
+    out = (rows, codes, np.asarray(uniques, dtype=object))
+    _DISTINCT[column] = out
+    return out
+
+
 def parse_column(
     column: RawColumn, spec: ParseSpec, facts: SourceFacts | None = None
 ) -> ParsedColumn:
@@ -265,16 +371,12 @@ def parse_column(
     pat = np.full(n, -1, dtype=np.int16)
     reason = np.full(n, None, dtype=object)
     patterns = tuple(spec.patterns)
-    textual = np.isin(kinds, (CellKind.TEXT, CellKind.INT, CellKind.FLOAT, CellKind.ERROR))
-    if textual.any():
-        all_text = bool(textual.all())
-        vals = column.values if all_text else column.values[textual]
-        codes, uniques = pd.factorize(vals)
-        if (kinds[textual] != CellKind.TEXT).any() or not all(isinstance(u, str) for u in uniques):
-            uniques = np.array([_num_text(u) for u in uniques], dtype=object)
+    rows, codes, uniques = distinct_texts(column)
+    if len(rows):
         res = parse_texts(uniques, spec)
         _apply_zone(res, spec)
-        rows = slice(None) if all_text else np.flatnonzero(textual)
+        if len(rows) == n:
+            rows = slice(None)
         value[rows] = res.value[codes]
         offset[rows] = res.offset[codes]
         has_time[rows] = res.has_time[codes]

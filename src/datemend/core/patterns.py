@@ -39,7 +39,7 @@ Pattern ids (JSON-safe, never renamed):
 from __future__ import annotations
 
 import datetime as _dt
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import babel.dates as _bd
 
@@ -52,7 +52,7 @@ _TIME = (
 _ZONE = r"(?: ?(?P<Z>z|utc|gmt|ut|[ecmp][sd]t|(?:utc|gmt)?[+-]\d{2}(?::?\d{2})?))?"
 _TZ = _TIME + _ZONE + "$"
 _Y = r"(?P<y>\d{4}|\d{2})"
-_WD = r"(?:(?P<wd>\pL+) )?"
+_WD = r"(?:(?P<wd>\pL[\pL-]*) )?"
 _NAME = r"(?P<mon>\pL+)"
 
 
@@ -68,6 +68,8 @@ class Pattern:
     shape: str
     ambiguous_with: tuple[str, ...] = ()
     uses_day_order: bool = False
+    #: Cheap features (see ``fields.features``) of which a text must have one to be tried.
+    needs: tuple[str, ...] = ()
 
 
 def _num(sep_id: str, sep: str, shown: str) -> Pattern:
@@ -234,8 +236,28 @@ _ALL = [
     Pattern("date-cell", "date cell", "cell", "cell", ""),
 ]
 
+_NEEDS = {
+    "iso-date": ("dash",),
+    "iso-week": ("w",),
+    "iso-ordinal": ("digits", "dash"),
+    "compact-ymd": ("digits", "t"),
+    "ymd-slash": ("slash",),
+    "num-slash": ("slash",),
+    "ymd-dot": ("dot",),
+    "num-dot": ("dot",),
+    "ymd-space": ("space",),
+    "num-space": ("space",),
+    "num-dash": ("dash",),
+    "rfc5322": ("alpha",),
+    "name-dmy": ("alpha",),
+    "name-mdy": ("alpha",),
+    "name-ymd": ("alpha",),
+}
+
 #: Every pattern by id, in the engine's default priority order.
-PATTERNS: dict[str, Pattern] = {p.id: p for p in _ALL}
+PATTERNS: dict[str, Pattern] = {
+    p.id: replace(p, needs=_NEEDS.get(p.id, ("digits",) if p.kind != "cell" else ())) for p in _ALL
+}
 
 
 def pattern(pattern_id: str) -> Pattern:

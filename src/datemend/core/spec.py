@@ -30,6 +30,9 @@ class ParseSpec:
     ``blank_tokens`` are compared after trimming and case-folding.
     ``zone``: None keeps offsets as written; "UTC" or an IANA name converts aware values there.
     ``naive_zone``: when converting, the zone naive values are taken to be in (None: left naive).
+    ``rivals``: pattern ids (also listed in ``patterns``) that compete for the same texts, such
+    as YYMMDD and DDMMYY: where two of them read a text as different dates, the cell is
+    AMBIGUOUS and its reason gives each reading; where only one reads it, that one wins.
     """
 
     patterns: tuple[str, ...]
@@ -41,6 +44,7 @@ class ParseSpec:
     naive_zone: str | None = None
     blank_tokens: tuple[str, ...] = ()
     locales: tuple[str, ...] = ("en",)
+    rivals: tuple[str, ...] = ()
     extra: dict[str, Any] = field(default_factory=dict, compare=False, hash=False)
 
     def __post_init__(self) -> None:
@@ -55,14 +59,14 @@ class ParseSpec:
 
     def to_dict(self) -> dict[str, Any]:
         d = asdict(self)
-        for key in ("patterns", "blank_tokens", "locales"):
+        for key in ("patterns", "blank_tokens", "locales", "rivals"):
             d[key] = list(d[key])
         return d
 
     @classmethod
     def from_dict(cls, d: dict[str, Any]) -> ParseSpec:
         d = dict(d)
-        for key in ("patterns", "blank_tokens", "locales"):
+        for key in ("patterns", "blank_tokens", "locales", "rivals"):
             if key in d:
                 d[key] = tuple(d[key])
         return cls(**d)

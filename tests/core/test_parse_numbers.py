@@ -1,0 +1,135 @@
+"""Golden table: spreadsheet serials (1900 and 1904 systems), Unix epochs, and cell kinds
+(numbers, real date cells, times, booleans). Serial check values from ISO/IEC 29500-1 §18.17.4
+(via REFERENCES.md); epoch values from POSIX "Seconds Since the Epoch" examples; the rest from
+Python's datetime arithmetic, as each row says."""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import numpy as np
+import pytest
+
+from datemend.core.clean import NAIVE, CellState
+from datemend.core.parse import iso_text, parse_column
+from datemend.core.spec import ParseSpec
+from datemend.core.table import CellKind, RawColumn, kinds_of
+
+S1900 = ParseSpec(patterns=("serial", "epoch-s", "epoch-ms"))
+S1904 = ParseSpec(patterns=("serial",), date_system=1904)
+SPECS = {"1900": S1900, "1904": S1904}
+
+
+def read(values: list[object], spec: ParseSpec, kinds=None) -> list[tuple[str, str]]:
+    arr = np.empty(len(values), dtype=object)
+    arr[:] = values
+    k = kinds_of(arr) if kinds is None else np.array(kinds, dtype=np.int8)
+    col = parse_column(RawColumn("c", arr, k), spec)
+    iso = iso_text(col.value, col.offset_min, col.has_time)
+    return [
+        (CellState(s).name, str(i) if s == CellState.PARSED else str(r))
+        for s, i, r in zip(col.state, iso, col.reason, strict=True)
+    ]
+
+
+ROWS = [
+    ("1", "1900", "1900-01-01", "ISO/IEC 29500 §18.17.4: serial 1 is 1900-01-01"),
+    ("59", "1900", "1900-02-28", "serial 59 is 1900-02-28"),
+    ("60", "1900", "FAILED: 29 February 1900, a day that does not exist", "the leap-year quirk"),
+    ("61", "1900", "1900-03-01", "from 61 on: 1899-12-30 + N"),
+    ("0", "1900", "FAILED: day zero", "serial 0 is 1900-01-00, not a day"),
+    ("3687", "1900", "1910-02-03", "ISO/IEC 29500 check value"),
+    ("38749", "1900", "2006-02-01", "ISO/IEC 29500 check value"),
+    ("2958465", "1900", "9999-12-31", "ISO/IEC 29500 check value (largest)"),
+    ("2958466", "1900", "FAILED: after 9999-12-31", "beyond the calendar"),
+    ("44927", "1900", "2023-01-01", "date(1899,12,30) + timedelta(44927)"),
+    ("44927.0", "1900", "2023-01-01", "trailing .0 of a serial stored as text"),
+    ("44927.5", "1900", "2023-01-01T12:00:00", "a fraction is the time of day: noon"),
+    ("44927.25", "1900", "2023-01-01T06:00:00", "0.25 day = 06:00"),
+    ("0 ", "1904", "1904-01-01", "ISO/IEC 29500: 1904 system serial 0 is 1904-01-01"),
+    ("0.5", "1904", "1904-01-01T12:00:00", "1904 system 0.5 is noon of 1904-01-01"),
+    ("2225", "1904", "1910-02-03", "ISO/IEC 29500 check value, 1904 system"),
+    ("37287", "1904", "2006-02-01", "ISO/IEC 29500 check value, 1904 system"),
+    ("2957003", "1904", "9999-12-31", "ISO/IEC 29500 check value, 1904 system"),
+    ("60 ", "1904", "1904-03-01", "no quirk in the 1904 system (1904 is a leap year)"),
+    ("1000000000", "1900", "2001-09-09T01:46:40+00:00", "POSIX epoch example"),
+    ("1234567890", "1900", "2009-02-13T23:31:30+00:00", "POSIX epoch example"),
+    ("2147483647", "1900", "2038-01-19T03:14:07+00:00", "largest signed 32-bit value"),
+    ("-27723426", "1900", "1969-02-14T03:02:54+00:00", "RFC 5322 App. A.5 instant"),
+    ("1234567890123", "1900", "2009-02-13T23:31:30.123000+00:00", "epoch milliseconds"),
+    ("1234567890.5", "1900", "2009-02-13T23:31:30.500000+00:00", "epoch with a fraction"),
+]
+
+
+def test_no_input_repeats() -> None:
+    keys = [r[0] for r in ROWS]
+    assert len(keys) == len(set(keys))
+
+
+@pytest.mark.parametrize(("text", "system", "expected", "why"), ROWS, ids=[r[0] for r in ROWS])
+def test_numbers_table(text: str, system: str, expected: str, why: str) -> None:
+    ((state, got),) = read([text], SPECS[system], kinds=[CellKind.TEXT])
+    if expected.startswith("FAILED: "):
+        assert state == "FAILED", f"{text}: {why}; got {got}"
+        assert expected[8:] in got, got
+    else:
+        assert (state, got) == ("PARSED", expected), why
+
+
+def test_serials_match_python_date_arithmetic() -> None:
+    # Reference: 1899-12-30 + N days for N ≥ 61 (ISO/IEC 29500 §18.17.4), via datetime.
+    serials = list(range(61, 80000, 997))
+    want = [("PARSED", (dt.date(1899, 12, 30) + dt.timedelta(days=n)).isoformat()) for n in serials]
+    assert read([str(n) for n in serials], S1900, kinds=[CellKind.TEXT] * len(serials)) == want
+    want04 = [("PARSED", (dt.date(1904, 1, 1) + dt.timedelta(days=n)).isoformat()) for n in serials]
+    assert read([str(n) for n in serials], S1904, kinds=[CellKind.TEXT] * len(serials)) == want04
+
+
+def test_numeric_cells_are_read_like_their_text() -> None:
+    # INT and FLOAT cells: the same serial reading as digits written as text.
+    got = read([44927, 44927.5, 60], S1900)
+    assert got[0] == ("PARSED", "2023-01-01")
+    assert got[1] == ("PARSED", "2023-01-01T12:00:00")
+    assert got[2][0] == "FAILED" and "29 February 1900" in got[2][1]
+
+
+def test_real_date_cells_are_kept() -> None:
+    values = [
+        dt.date(1600, 1, 1),
+        dt.datetime(9999, 12, 31, 23, 59, 59),
+        dt.datetime(2024, 3, 1, 0, 0),
+        dt.datetime(2024, 3, 1, 10, 0, tzinfo=dt.timezone(dt.timedelta(hours=2))),
+    ]
+    arr = np.empty(len(values), dtype=object)
+    arr[:] = values
+    col = parse_column(RawColumn("c", arr, kinds_of(arr)), S1900)
+    assert col.state.tolist() == [CellState.PARSED] * 4
+    assert iso_text(col.value, col.offset_min, col.has_time).tolist() == [
+        "1600-01-01",
+        "9999-12-31T23:59:59",
+        "2024-03-01",
+        "2024-03-01T10:00:00+02:00",
+    ]
+    assert col.patterns[col.pattern[0]] == "date-cell"
+    assert col.offset_min[0] == NAIVE
+
+
+def test_time_and_bool_cells_fail_with_a_reason() -> None:
+    got = read([dt.time(10, 30), True], S1900)
+    assert got[0][0] == "FAILED" and "time" in got[0][1]
+    assert got[1][0] == "FAILED" and "true/false" in got[1][1]
+
+
+def test_empty_cells_are_blank_not_failed() -> None:
+    got = read([None, "", "  "], S1900)
+    assert [g[0] for g in got] == ["BLANK"] * 3
+
+
+def test_epoch_digit_counts_keep_numbers_apart() -> None:
+    # Seconds need 8–10 digits (or a sign), milliseconds 11–13: a 5-digit number is a serial.
+    got = read(["44927", "1234567890", "1234567890123"], S1900, kinds=[CellKind.TEXT] * 3)
+    assert got == [
+        ("PARSED", "2023-01-01"),
+        ("PARSED", "2009-02-13T23:31:30+00:00"),
+        ("PARSED", "2009-02-13T23:31:30.123000+00:00"),
+    ]

@@ -181,7 +181,9 @@ def compact(rng: random.Random, n: int) -> Iterator[LabelledColumn]:
     while len(pairs) < n // 2:
         a, b, c = rng.randint(1, 12), rng.randint(1, 12), rng.randint(1, 12)
         text = f"{a:02d}{b:02d}{c:02d}"
-        pairs.append((text, None, None))
+        # the three readings agree only when a == b == c (e.g. 060606 is 2006-06-06 every way)
+        same = dt.datetime(2000 + a, a, a) if a == b == c else None
+        pairs.append((text, same, None))
     yield _text_col("compact 6-digit undecidable", "ddmmyy_or_not", pairs)
 
 

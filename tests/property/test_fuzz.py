@@ -18,7 +18,7 @@ import random
 from dataclasses import replace
 
 import numpy as np
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 
 from datemend.core.clean import NAIVE, CellState
@@ -27,8 +27,8 @@ from datemend.core.parse import parse_column
 from datemend.core.spec import ParseSpec
 from datemend.core.table import CellKind, RawColumn, kinds_of
 
-EXAMPLES = 50
-PER_COLUMN = 210  # 50 × 210 = 10,500 values a run
+EXAMPLES = 20
+PER_COLUMN = 520  # 20 × 520 = 10,400 values a run (a scan costs about a second: few, long columns)
 
 MONTHS = ["jan", "February", "MARS", "März", "févr.", "dic", "mei", "ago.", "Sept", "okt"]
 DAYS = ["Mon", "friday", "Freitag", "sáb", "zo", "Thu,"]
@@ -214,6 +214,8 @@ SEEN = {"values": 0, "columns": 0}
     max_examples=EXAMPLES,
     deadline=None,
     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large],
+    # no shrinking: each example costs seconds, and a failure already names the cells
+    phases=[Phase.explicit, Phase.reuse, Phase.generate],
 )
 @given(
     seed=st.integers(0, 2**32 - 1),
@@ -234,15 +236,19 @@ def _fuzz_once(seed: int, drawn: list[object]) -> None:
     col = make_column(seed, drawn)
     SEEN["values"] += len(col)
     SEEN["columns"] += 1
-    for prefer in (None, "dmy"):
-        report = scan_column(col, None, prefer_day_order=prefer, reference_year=2026)
-        assert report.n_rows == len(col)
-        for sug in report.suggestions[:3]:
-            check(col, sug.spec)
+    prefer = (None, "dmy", "mdy")[seed % 3]
+    report = scan_column(col, None, prefer_day_order=prefer, reference_year=2026)
+    assert report.n_rows == len(col)
+    for sug in report.suggestions[:2]:
+        check(col, sug.spec)
     if report.best is not None:
         spec = report.best.spec
-        check(col, replace(spec, day_order="mdy", century="past", pivot_year=2026))
-        check(col, replace(spec, date_system=1904, blank_tokens=("n/a", "-", "unknown")))
+        changed = (
+            replace(spec, day_order="mdy", century="past", pivot_year=2026)
+            if seed % 2
+            else replace(spec, date_system=1904, blank_tokens=("n/a", "-", "unknown"))
+        )
+        check(col, changed)
 
 
 def test_fuzzed_columns_never_crash_and_every_cell_is_accounted_for() -> None:

@@ -336,3 +336,30 @@ def test_malformed_list_is_independent_of_order():
     for change, *_ in MALFORMED:
         change(copy.deepcopy(base))
     FixLog.from_dict(base, "base.json")
+
+
+def test_a_run_of_hand_set_cells_equals_applying_them_one_by_one():
+    from datemend.core.clean import CleanTable
+    from datemend.core.fixlog import apply_entry
+
+    raw = _raw()
+    log = (
+        FixLog(key_column="Member no")
+        .add(ReadDates("Born", _spec_for(raw)))
+        .add(SetCell("Born", "M1", "1971-01-01", "Member no"))
+        .add(SetCell("Born", "M3", "1972-01-01", "Member no"), enabled=False)
+        .add(SetCell("Joined", "M3", "1973-01-01", "Member no"))  # no such column
+        .add(SetCell("Born", "M9", "1974-01-01", "Member no"))  # no such key
+        .add(SetCell("Born", "M1", "1975-01-01", "Member no"))  # the later one wins
+        .add(SetCell("Born", "4", None))  # by source row number: M3 (header on row 1)
+    )
+    fast = apply_log(log, raw)
+    slow = CleanTable(raw, key_column="Member no")
+    for i, e in enumerate(log.entries):
+        slow = apply_entry(slow, e, i + 1, ApplyContext())
+    a, b = fast.parsed["Born"], slow.parsed["Born"]
+    assert np.array_equal(a.value, b.value, equal_nan=True)
+    assert np.array_equal(a.state, b.state) and list(a.reason) == list(b.reason)
+    assert fast.warnings == slow.warnings
+    assert a.value[0] == np.datetime64("1975-01-01", "us")
+    assert (a.state[0], a.state[2]) == (CellState.MANUAL, CellState.BLANK)

@@ -65,6 +65,7 @@ __all__ = [
     "StepError",
     "apply_entry",
     "apply_log",
+    "apply_run",
     "apply_to_dataframe",
     "auto_fix",
     "fixlog_schema",
@@ -656,14 +657,49 @@ def apply_log(
     if ctx is None:
         ctx = ApplyContext(key_column=log.key_column)
     table = CleanTable(raw, key_column=ctx.key_column or log.key_column)
-    n = len(log.entries)
-    for i, entry in enumerate(log.entries):
+    entries = log.entries
+    n = len(entries)
+    i = 0
+    while i < n:
         if progress is not None:
             progress.report(i, n, f"step {i + 1} of {n}")
-        table = apply_entry(table, entry, i + 1, ctx)
+        cls = type(entries[i].step)
+        j = i + 1
+        if entries[i].enabled and cls.apply_many is not Step.apply_many:
+            # a run of steps of one kind that shares work (e.g. many hand-set cells)
+            while j < n and type(entries[j].step) is cls:
+                j += 1
+        if j - i > 1:
+            table = apply_run(table, entries, i, j, ctx)
+        else:
+            table = apply_entry(table, entries[i], i + 1, ctx)
+        i = j
     if progress is not None:
         progress.report(n, n, "done")
     return table
+
+
+def apply_run(
+    table: CleanTable, entries: tuple[LogEntry, ...], start: int, stop: int, ctx: ApplyContext
+) -> CleanTable:
+    """Entries ``start..stop-1`` (one kind): the ones whose columns exist, in one call."""
+    batch = []
+    for k in range(start, stop):
+        entry = entries[k]
+        if not entry.enabled:
+            continue
+        missing = [c for c in entry.step.columns_read() if c not in known_names(table)]
+        if missing:
+            text = f'Step {k + 1} was skipped: column "{missing[0]}" is not in the file.'
+            table = table if text in table.warnings else table.with_warning(text)
+        else:
+            batch.append(entry.step)
+    if not batch:
+        return table
+    try:
+        return type(batch[0]).apply_many(table, batch, ctx)
+    except DatemendError as err:
+        raise StepError(f"Steps {start + 1}–{stop} failed: {err}") from None
 
 
 def apply_to_dataframe(

@@ -18,6 +18,7 @@ from .table import CellKind, RawColumn, RawTable
 
 __all__ = [
     "cells_text",
+    "column_text",
     "detect_key_column",
     "find_rows",
     "is_key_column",
@@ -33,12 +34,17 @@ _KINDS_OK = np.array([CellKind.TEXT, CellKind.INT], dtype=np.int8)
 _index_cache: weakref.WeakKeyDictionary[RawColumn, pd.Index] = weakref.WeakKeyDictionary()
 
 
+def column_text(column: RawColumn) -> pd.Series:
+    """Every cell as trimmed text, "" for empty (Arrow strings: trimmed without a Python loop)."""
+    text = column.text().astype("string[pyarrow]").str.strip()
+    return text.fillna("").reset_index(drop=True)
+
+
 def key_text(column: RawColumn) -> pd.Index:
     """The column's cells as trimmed text, as an Index for lookups (cached per column)."""
     idx = _index_cache.get(column)
     if idx is None:
-        text = column.text().fillna("").astype(object).str.strip()
-        idx = pd.Index(text.to_numpy(dtype=object), dtype=object)
+        idx = pd.Index(column_text(column))
         _index_cache[column] = idx
     return idx
 

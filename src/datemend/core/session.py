@@ -13,7 +13,7 @@ from typing import Any
 import numpy as np
 
 from .clean import CleanTable, ParsedColumn
-from .fixlog import FixLog, LogEntry, apply_entry
+from .fixlog import FixLog, LogEntry, apply_entry, apply_run
 from .progress import Progress
 from .report import ColumnReport, Suggestion
 from .rowkey import cells_text, detect_key_column, key_of_row
@@ -60,17 +60,31 @@ class ApplyJob:
     ctx: ApplyContext
     start: int  # first entry to apply
     base: CleanTable  # table after the first ``start`` entries
-    results: list[CleanTable] = field(default_factory=list)
+    results: list[CleanTable | None] = field(default_factory=list)
 
     def run(self, progress: Progress | None = None) -> CleanTable:
+        """Apply the entries from ``start``; a run of steps that share work (hand-set cells)
+        is applied in one go, its inner tables left out (None)."""
         table = self.base
-        n = len(self.log.entries)
+        entries = self.log.entries
+        n = len(entries)
         self.results = []
-        for i in range(self.start, n):
+        i = self.start
+        while i < n:
             if progress is not None:
                 progress.report(i - self.start, n - self.start, f"step {i + 1} of {n}")
-            table = apply_entry(table, self.log.entries[i], i + 1, self.ctx)
+            cls = type(entries[i].step)
+            j = i + 1
+            if entries[i].enabled and cls.apply_many is not Step.apply_many:
+                while j < n and type(entries[j].step) is cls:
+                    j += 1
+            if j - i > 1:
+                table = apply_run(table, entries, i, j, self.ctx)
+                self.results.extend([None] * (j - i - 1))
+            else:
+                table = apply_entry(table, entries[i], i + 1, self.ctx)
             self.results.append(table)
+            i = j
         return table
 
 
@@ -122,7 +136,8 @@ class Session:
         self._group: list[_Atom] | None = None
         self._group_depth = 0
         self._subscribers: list[Callable[[SessionEvent], None]] = []
-        self._tables: list[CleanTable] = []  # _tables[i]: after the first i entries
+        # _tables[i]: the table after the first i entries (None inside a run applied at once)
+        self._tables: list[CleanTable | None] = []
         self._tables_for: FixLog | None = None
         self._recompute(emit=False)
 
@@ -145,7 +160,9 @@ class Session:
     @property
     def clean(self) -> CleanTable:
         """The log applied to the table (as of the last recompute, see ``auto_apply``)."""
-        return self._tables[-1]
+        table = self._tables[-1]
+        assert table is not None
+        return table
 
     @property
     def ctx(self) -> ApplyContext:
@@ -187,6 +204,8 @@ class Session:
         if self._tables_for is not self._log or index + 1 >= len(self._tables):
             return None
         before, after = self._tables[index], self._tables[index + 1]
+        if before is None or after is None:
+            return None
         total = 0
         for name, pc in after.parsed.items():
             old = before.parsed.get(name)
@@ -414,7 +433,10 @@ class Session:
                 if not _same_entry(a, b) or start + 1 >= len(self._tables):
                     break
                 start += 1
-        base = self._tables[start] if start else CleanTable(self._raw, key_column=ctx.key_column)
+            while start and self._tables[start] is None:
+                start -= 1  # inside a run applied at once: start where a table was kept
+        kept = self._tables[start] if start else None
+        base = kept if kept is not None else CleanTable(self._raw, key_column=ctx.key_column)
         return ApplyJob(log, self._raw, ctx, start, base)
 
     def install(self, job: ApplyJob) -> bool:
@@ -423,7 +445,7 @@ class Session:
             return False
         old = self._tables[-1] if self._tables else None
         self._take(job)
-        self._emit(SessionEvent("clean", _clean_changes(old, self._tables[-1])))
+        self._emit(SessionEvent("clean", _clean_changes(old, self.clean)))
         return True
 
     def _take(self, job: ApplyJob) -> None:

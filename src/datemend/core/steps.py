@@ -21,6 +21,7 @@ import datetime as _dt
 import enum
 import types
 import typing
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import Any, ClassVar, Literal, TypeVar
 
@@ -235,6 +236,14 @@ class Step:
         """Source or output column names this step needs."""
         return ()
 
+    @classmethod
+    def apply_many(cls, table: CleanTable, steps: Sequence[Step], ctx: ApplyContext) -> CleanTable:
+        """Apply consecutive steps of this kind; a kind may override it to share work (copying
+        arrays once for many hand-set cells). Must equal applying them one by one."""
+        for s in steps:
+            table = s.apply(table, ctx)
+        return table
+
     def columns_changed(self) -> tuple[str, ...]:
         """Source column names whose parsed values this step may change (for views)."""
         return self.columns_read()
@@ -303,7 +312,9 @@ def _warn(table: CleanTable, text: str) -> CleanTable:
 
 def _cell_text(table: CleanTable, column: str) -> pd.Series:
     """Each raw cell of a column as trimmed text ("" for empty)."""
-    return table.raw.column(column).text().fillna("").astype(object).str.strip()
+    from .rowkey import column_text
+
+    return column_text(table.raw.column(column))
 
 
 def manual_value(value: str) -> tuple[np.datetime64, int, bool]:
@@ -391,7 +402,7 @@ class BlankTokens(Step):
                 table = _not_read(table, name, "treating tokens as blank")
                 continue
             codes, uniques = pd.factorize(_cell_text(table, name))
-            hit_u = np.array([u.casefold() in wanted for u in uniques], dtype=bool)
+            hit_u = np.array([str(u).casefold() in wanted for u in uniques], dtype=bool)
             hit = np.zeros(len(pc), dtype=bool)
             known = codes >= 0
             hit[known] = hit_u[codes[known]]
@@ -455,11 +466,33 @@ class SetCell(Step):
         return f'Set "{self.column}" in {self.where()} to {to} by hand{tail}.'
 
     def apply(self, table: CleanTable, ctx: ApplyContext) -> CleanTable:
-        from .rowkey import find_rows
+        return SetCell.apply_many(table, [self], ctx)
 
-        pc = table.parsed.get(self.column)
-        if pc is None:
-            return _not_read(table, self.column, f"setting {self.where()} by hand")
+    @classmethod
+    def apply_many(cls, table: CleanTable, steps: Sequence[Step], ctx: ApplyContext) -> CleanTable:
+        """Set many cells, copying each column's arrays once."""
+        copies: dict[str, dict[str, np.ndarray]] = {}
+        for step in steps:
+            assert isinstance(step, SetCell)
+            table, row = step._locate(table)
+            if row is None:
+                continue
+            arrays = copies.get(step.column)
+            if arrays is None:
+                pc = table.parsed[step.column]
+                arrays = {n: getattr(pc, n).copy() for n in _CELL_ARRAYS}
+                copies[step.column] = arrays
+            step._write(arrays, row)
+        for name, arrays in copies.items():
+            table = table.with_parsed(table.parsed[name].evolve(**arrays))
+        return table
+
+    def _locate(self, table: CleanTable) -> tuple[CleanTable, int | None]:
+        """(table with any warning, row position) — None when the cell cannot be placed."""
+        from .rowkey import cells_text, find_rows
+
+        if self.column not in table.parsed:
+            return _not_read(table, self.column, f"setting {self.where()} by hand"), None
         if self.key_column is None:
             table = _warn(
                 table,
@@ -467,33 +500,30 @@ class SetCell(Step):
                 "they land on other rows if rows are added, removed or sorted.",
             )
         elif self.key_column not in table.raw:
-            return _warn(
-                table,
+            text = (
                 f'Key column "{self.key_column}" is not in the file; '
-                f'the hand-set "{self.column}" of "{self.key}" was not applied.',
+                f'the hand-set "{self.column}" of "{self.key}" was not applied.'
             )
+            return _warn(table, text), None
         rows = find_rows(table.raw, self.key_column, self.key)
         if len(rows) != 1:
             why = "is gone" if len(rows) == 0 else f"matches {len(rows)} rows"
-            return _warn(
-                table,
-                f'The hand-set "{self.column}" of {self.where()} was not applied: that key {why}.',
+            text = (
+                f'The hand-set "{self.column}" of {self.where()} was not applied: that key {why}.'
             )
+            return _warn(table, text), None
         r = int(rows[0])
         if self.raw is not None:
-            from .rowkey import cells_text
-
             now = cells_text(table.raw.column(self.column), [r]).iat[0]
             if now != self.raw.strip():
-                return _warn(
-                    table,
+                text = (
                     f'The hand-set "{self.column}" of {self.where()} was not applied: its raw '
-                    f'value changed from "{self.raw}" to "{now}".',
+                    f'value changed from "{self.raw}" to "{now}".'
                 )
-        arrays = {
-            n: getattr(pc, n).copy()
-            for n in ("value", "offset_min", "has_time", "state", "pattern", "reason")
-        }
+                return _warn(table, text), None
+        return table, r
+
+    def _write(self, arrays: dict[str, np.ndarray], r: int) -> None:
         if self.value is None:
             arrays["value"][r] = np.datetime64("NaT", "us")
             arrays["offset_min"][r], arrays["has_time"][r] = NAIVE, False
@@ -504,7 +534,9 @@ class SetCell(Step):
             arrays["state"][r] = CellState.MANUAL
         arrays["pattern"][r] = -1
         arrays["reason"][r] = self.note or "set by hand"
-        return table.with_parsed(pc.evolve(**arrays))
+
+
+_CELL_ARRAYS = ("value", "offset_min", "has_time", "state", "pattern", "reason")
 
 
 @register_step

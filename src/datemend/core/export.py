@@ -185,8 +185,11 @@ def to_zone(utc: np.ndarray, zone: str) -> tuple[np.ndarray, np.ndarray]:
     return wall, off
 
 
-def zone_note(options: ExportOptions) -> str:
-    return f"Times that carried a UTC offset are written in {options.zone}."
+def zone_note(options: ExportOptions, column: str | None = None) -> str:
+    """The sentence saying which zone offset-carrying values were written in."""
+    if column is None:
+        return f"Times that carried a UTC offset are written in {options.zone}."
+    return f'In column "{column}", times that carried a UTC offset are written in {options.zone}.'
 
 
 def unique_name(name: str, taken: set[str]) -> str:

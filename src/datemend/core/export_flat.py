@@ -241,7 +241,7 @@ def _notes(layout: list[FlatColumn], options: ExportOptions) -> list[str]:
     notes = []
     for c in layout:
         if c.dates is not None and c.dates.aware:
-            notes.append(f'Column "{c.name}": {zone_note(options)}')
+            notes.append(zone_note(options, c.name))
         if c.dates is not None and c.dates.mixed:
             notes.append(
                 f'Column "{c.name}" mixes times with and without a UTC offset; those without '

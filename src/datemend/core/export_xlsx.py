@@ -174,6 +174,8 @@ def write_workbook(
             _put_text(header, label, fix)
         if d.aware and not options.zone_in_header:
             _add_comment(header, zone_note(options))
+        if d.aware:
+            notes.append(zone_note(options, pc.output_name))
         if d.mixed:
             notes.append(
                 f'Column "{pc.output_name}" mixes times with and without a UTC offset; '
@@ -458,7 +460,7 @@ def _stream_book(
                 if options.zone_in_header:
                     head = f"{head} ({options.zone})"
                 else:
-                    notes.append(f'Column "{col.name}": {zone_note(options)}')
+                    notes.append(zone_note(options, col.name))
             cells, n_dates, n_early = _stream_dates(ws, d, col, options, fix, earliest)
             dates += n_dates
             early += n_early

@@ -441,6 +441,40 @@ def test_derive_dialog_previews_and_adds_an_age(qtbot, window, small_csv):
     age = s.clean.derived[s.log.entries[-1].step.output_name].values
     # 03/10/2019 → 2026-10-31: 7 completed years (by hand: 3 Oct 2026 has passed).
     assert int(age.iloc[0]) == 7
+    name = s.log.entries[-1].step.output_name
+    window.columns.choose(name)  # the worked-out column is listed and shown
+    assert window.column == name
+    m = window.cells.model
+    assert m.data(m.index(0, m.column_of(Column.RAW))) == "7"
+    assert "local law" in window.readings.summary.text()
+
+
+def test_a_rule_shows_its_breaking_rows_as_problems(qtbot, window, small_csv):
+    s = adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    window.act_derive.trigger()
+    d = window.derive_dialog
+    d.kind.setCurrentIndex(
+        next(i for i in range(d.kind.count()) if d.kind.itemData(i).kind == "rule-not-after")
+    )
+    d.inputs["as_of"][1].setText("2021-01-01")
+    with qtbot.waitSignal(window.table_refreshed):
+        qtbot.mouseClick(d.add, Qt.MouseButton.LeftButton)
+    (label,) = s.clean.rule_hits
+    # Joined after 2021-01-01, worked out by hand from SMALL_CSV: R002 (14/02/2021) and
+    # R010 (22/03/2023); unread and blank cells break no rule.
+    box = window.cells.show_box
+    i = box.findData(f"rule:{label}")
+    assert i >= 0 and "(2)" in box.itemText(i)
+    box.setCurrentIndex(i)
+    box.activated.emit(i)
+    assert set(reads_as(window)) == {"R002", "R010"}
+    window.act_problems.trigger()
+    assert set(reads_as(window)) == {"R002", "R010", "R004", "R009"}
+    m = window.cells.model
+    notes = [m.data(m.index(r, m.column_of(Column.NOTE))) for r in range(m.rowCount())]
+    assert sum("breaks:" in n for n in notes) == 2
 
 
 def test_no_readings_no_crash_on_empty_column(qtbot, window, tmp_path):

@@ -12,7 +12,7 @@ Signals:
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from enum import Enum
 
 import numpy as np
@@ -56,11 +56,13 @@ _HEADER_TIPS = {
 
 @dataclass(frozen=True)
 class RowFilter:
-    """Which rows to show. ``mode`` is "all", "problems", "pattern" or "range".
+    """Which rows to show. ``mode`` is "all", "problems", "pattern", "range" or "rule".
 
     ``pattern`` is an index into ``ParsedColumn.patterns``; ``lo``/``hi`` bound the parsed value
-    (``lo`` included, ``hi`` excluded); ``find`` keeps rows whose raw text or ISO date contains it
-    (case-insensitive); ``problems_first`` puts not-read and unclear cells on top.
+    (``lo`` included, ``hi`` excluded); ``rule`` names a rule whose breaking rows are shown;
+    ``find`` keeps rows whose raw text or ISO date contains it (case-insensitive);
+    ``problems_first`` puts problems on top. Problems are cells not read or unclear, and rows
+    that break a rule.
     """
 
     mode: str = "all"
@@ -69,6 +71,7 @@ class RowFilter:
     hi: np.datetime64 | None = None
     find: str = ""
     problems_first: bool = False
+    rule: str | None = None
 
     def describe(self) -> str:
         """Short words for the filter, shown above the table."""
@@ -77,6 +80,7 @@ class RowFilter:
             "problems": "cells needing a look",
             "pattern": "one pattern group",
             "range": f"dates from {self.lo} to before {self.hi}",
+            "rule": f'rows breaking "{self.rule}"',
         }
         text = parts.get(self.mode, self.mode)
         if self.find:
@@ -95,6 +99,14 @@ class CellsSource:
     source_rows: np.ndarray
     keys: np.ndarray | None = None  # object array of key values, one per row
     key_name: str | None = None
+    rule_hits: dict[str, np.ndarray] = field(default_factory=dict)  # rule label -> rows breaking it
+
+    def problems(self) -> np.ndarray | None:
+        """Rows needing a look: cells not read or unclear, and rows breaking a rule."""
+        mask = None if self.parsed is None else self.parsed.problems()
+        for hits in self.rule_hits.values():
+            mask = hits.copy() if mask is None else mask | hits
+        return mask
 
 
 def format_value(value: np.datetime64, has_time: bool, offset_min: int, date_only: bool) -> str:
@@ -187,8 +199,11 @@ class CellsModel(QAbstractTableModel):
             return np.zeros(0, dtype=np.int64)
         n = len(src.raw)
         p = src.parsed
-        if f.mode == "problems" and p is not None:
-            mask = p.problems()
+        problems = src.problems()
+        if f.mode == "problems" and problems is not None:
+            mask = problems
+        elif f.mode == "rule" and f.rule in src.rule_hits:
+            mask = src.rule_hits[f.rule]
         elif f.mode == "pattern" and p is not None and f.pattern is not None:
             mask = p.pattern == f.pattern
         elif f.mode == "range" and p is not None:
@@ -203,8 +218,8 @@ class CellsModel(QAbstractTableModel):
             hit = self._find_mask(f.find)
             mask = hit if mask is None else mask & hit
         rows = np.arange(n, dtype=np.int64) if mask is None else np.flatnonzero(mask)
-        if f.problems_first and p is not None and len(rows):
-            rows = rows[np.argsort(~p.problems()[rows], kind="stable")]
+        if f.problems_first and problems is not None and len(rows):
+            rows = rows[np.argsort(~problems[rows], kind="stable")]
         return rows.astype(np.int64)
 
     def _find_mask(self, needle: str) -> np.ndarray:
@@ -306,7 +321,12 @@ class CellsModel(QAbstractTableModel):
             return p.patterns[i] if 0 <= i < len(p.patterns) else ""
         if col is Column.NOTE:
             reason = p.reason[r]
-            return "" if reason is None else str(reason)
+            broken = [label for label, hits in src.rule_hits.items() if hits[r]]
+            text = "" if reason is None else str(reason)
+            if broken:
+                rules = "; ".join(f"breaks: {label}" for label in broken)
+                text = f"{text} · {rules}" if text else rules
+            return text
         return ""
 
     def setData(self, index: _Index, value: object, role: int = Qt.ItemDataRole.EditRole) -> bool:

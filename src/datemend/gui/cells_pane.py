@@ -49,6 +49,8 @@ def _mode_of(data: object) -> tuple[str, int | None]:
     text = str(data or "all")
     if text.startswith("pattern:"):
         return "pattern", int(text.split(":", 1)[1])
+    if text.startswith("rule:"):
+        return "rule", None
     return text, None
 
 
@@ -145,7 +147,7 @@ class CellsPane(QWidget):
             self.find.blockSignals(True)
             self.find.clear()
             self.find.blockSignals(False)
-        self._fill_show_box(parsed)
+        self._fill_show_box(parsed, {} if source is None else source.rule_hits)
         self.title.setText(f"<b>Cells</b> of “{source.raw.name}”" if source else "<b>Cells</b>")
         self.chart.set_values(None if parsed is None else parsed.value)
         self.model.set_source(source, self._current_filter())
@@ -156,7 +158,9 @@ class CellsPane(QWidget):
                 head = str(self.model.headerData(i, Qt.Orientation.Horizontal))
                 self.table.setColumnWidth(i, max(w, fm.horizontalAdvance(head) + 24))
 
-    def _fill_show_box(self, parsed: ParsedColumn | None) -> None:
+    def _fill_show_box(
+        self, parsed: ParsedColumn | None, hits: dict[str, np.ndarray] | None = None
+    ) -> None:
         current = self.show_box.currentData()
         self.show_box.blockSignals(True)
         self.show_box.clear()
@@ -169,6 +173,12 @@ class CellsPane(QWidget):
             for i, name in enumerate(parsed.patterns):
                 if counts[i]:
                     self.show_box.addItem(f"pattern group: {name} ({counts[i]:,})", f"pattern:{i}")
+        if hits is None:
+            hits = {} if self.model.source is None else self.model.source.rule_hits
+        for label, mask in hits.items():
+            n = int(mask.sum())
+            if n:
+                self.show_box.addItem(f"rule broken: {label} ({n:,})", f"rule:{label}")
         if self._range is not None:
             lo = self._range[0]
             self.show_box.addItem(f"dates from the chosen bar ({lo} …)", "range")
@@ -189,8 +199,10 @@ class CellsPane(QWidget):
         lo = hi = None
         if mode == "range" and self._range is not None:
             lo, hi = self._range
+        data = str(self.show_box.currentData() or "")
         return RowFilter(
             mode=mode,
+            rule=data.split(":", 1)[1] if mode == "rule" else None,
             pattern=pattern,
             lo=lo,
             hi=hi,

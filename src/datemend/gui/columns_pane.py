@@ -2,7 +2,8 @@
 
 Marks (a glyph and words, never colour alone):
     ✓ read — read as dates, nothing to check;  ! n to check — read, some cells not read or unclear;
-    ◇ looks like dates — not read yet;  · not dates — the scan finds little that reads as a date.
+    ◇ looks like dates — not read yet;  · not dates — the scan finds little that reads as a date;
+    ＝ worked out — a column the fix log adds (span, age …).
 
 Signals:
     column_chosen(str), sheet_chosen(str)
@@ -82,11 +83,14 @@ class ColumnsPane(QWidget):
         clean: CleanTable | None,
         reports: dict[str, ColumnReport],
         current: str | None,
+        derived: list[str] | None = None,
     ) -> None:
+        """Fill the list: the file's columns, then those worked out by the fix log (＝)."""
         self.list.blockSignals(True)
         self.list.clear()
-        for name in names:
-            text, colour = column_mark(name, clean, reports.get(name))
+        extra = [(n, f"＝ {n} — worked out", OKABE_ITO["reddish purple"]) for n in derived or []]
+        marks = [(n, *column_mark(n, clean, reports.get(n))) for n in names]
+        for name, text, colour in marks + extra:
             item = QListWidgetItem(text)
             item.setData(Qt.ItemDataRole.UserRole, name)
             item.setForeground(QColor(colour))

@@ -17,12 +17,14 @@ import contextlib
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 from PySide6.QtCore import QSettings, Qt, Signal
 from PySide6.QtGui import QAction, QCloseEvent, QDragEnterEvent, QDropEvent, QIcon, QKeySequence
 from PySide6.QtWidgets import QLabel, QMainWindow, QMessageBox, QSplitter
 
 from ..core.fixlog import FixLog
 from ..core.session import Session, SessionEvent
+from ..core.table import CellKind, RawColumn
 from .cells_model import CellsSource
 from .cells_pane import CellsPane
 from .columns_pane import ColumnsPane
@@ -331,8 +333,7 @@ class MainWindow(QMainWindow, FileAsker):
         elif ev.what == "clean":
             self._refresh_columns()
             self._refresh_log()
-            if ev.columns is None or self.column in ev.columns or not ev.columns:
-                self._show_cells(keep_filter=True)
+            self._show_cells(keep_filter=True)
             warnings = s.clean.warnings
             if warnings:
                 self.say(warnings[-1])
@@ -361,7 +362,9 @@ class MainWindow(QMainWindow, FileAsker):
         if s is None:
             return
         reports = {n: s.report(n) for n in s.raw.names}
-        self.columns.set_columns(s.raw.names, s.clean, reports, self.column)
+        self.columns.set_columns(
+            s.raw.names, s.clean, reports, self.column, derived=list(s.clean.derived)
+        )
 
     def _refresh_log(self) -> None:
         s = self.session
@@ -375,12 +378,20 @@ class MainWindow(QMainWindow, FileAsker):
         self.fixlog.set_steps(rows)
 
     def show_column(self, name: str) -> None:
-        """Show one column in Cells, Date spread and Readings."""
-        if self.session is None or name not in self.session.raw:
+        """Show one column (of the file, or worked out by the log) in Cells and Readings."""
+        s = self.session
+        if s is None or (name not in s.raw and name not in s.clean.derived):
             return
         changed = name != self.column
         self.column = name
-        self.readings.set_report(self.session.report(name))
+        if name in s.raw:
+            self.readings.set_report(s.report(name))
+        else:
+            self.readings.set_report(None)
+            note = s.clean.derived[name].note
+            self.readings.summary.setText(
+                f"“{name}” is worked out by the fix log." + (f" {note}" if note else "")
+            )
         self._show_cells(keep_filter=not changed)
 
     def _show_cells(self, keep_filter: bool) -> None:
@@ -389,13 +400,27 @@ class MainWindow(QMainWindow, FileAsker):
             self.cells.set_source(None)
             return
         raw = s.raw
+        if self.column not in raw and self.column not in s.clean.derived:
+            self.column = None
+            self.cells.set_source(None)
+            return
         key = s.log.key_column
         keys = None
         if key is not None and key in raw and key != self.column:
             keys = raw.column(key).values
         assert raw.source_rows is not None
+        column = (
+            raw.column(self.column)
+            if self.column in raw
+            else _derived_as_raw(self.column, s.clean.derived[self.column].values)
+        )
         src = CellsSource(
-            raw.column(self.column), s.clean.parsed.get(self.column), raw.source_rows, keys, key
+            column,
+            s.clean.parsed.get(self.column),
+            raw.source_rows,
+            keys,
+            key,
+            dict(s.clean.rule_hits),
         )
         self.cells.set_source(src, keep_filter=keep_filter)
 
@@ -435,14 +460,16 @@ class MainWindow(QMainWindow, FileAsker):
         """Record a "treat as blank" step for the selected cell's text, in this column."""
         s, col = self.session, self.column
         row = self.cells.table.currentIndex().row()
-        if s is None or col is None or row < 0:
+        if s is None or col is None or row < 0 or col not in s.raw:
             return
+        from ..core.rowkey import key_text
+
         r = int(self.cells.model.rows[row])
-        text = s.raw.column(col).text().iat[r]
-        if text is None or not str(text).strip():
+        text = key_text(s.raw.column(col))[r]  # trimmed text, cached per column
+        if not text:
             self.say("That cell is empty already.")
             return
-        self._blank_tokens((str(text).strip(),))
+        self._blank_tokens((str(text),))
 
     # ------------------------------------------------------------------ edits
     def _edit(self, fn: Any) -> None:
@@ -641,6 +668,15 @@ class MainWindow(QMainWindow, FileAsker):
         for job in list(self.jobs):
             job.wait()
         super().closeEvent(event)
+
+
+def _derived_as_raw(name: str, values: Any) -> RawColumn:
+    """A worked-out column shown in Cells: its values as text, NA as empty (vectorised)."""
+    na = values.isna().to_numpy()
+    text = values.astype(str).to_numpy(dtype=object)
+    text[na] = None
+    kinds = np.where(na, CellKind.EMPTY, CellKind.TEXT).astype(np.int8)
+    return RawColumn(name, text, kinds)
 
 
 def _headline(report: Any, path: Path) -> str:

@@ -245,7 +245,13 @@ def test_replay_then_accept():
     assert len(t.log) == 0  # nothing changes before accepting
     t.accept_replay(report)
     assert t.log is log
-    assert _snapshot(t.clean) == _snapshot(report.table)
+    assert t.clean is report.table  # the replayed table is taken, not computed again
+    assert t.apply_job().start == len(log)  # and a later apply has nothing left to do
+    t.undo()
+    assert len(t.log) == 0 and t.clean.parsed == {}
+    t.redo()
+    ctx = ApplyContext(today=TODAY, key_column=log.key_column)
+    assert _snapshot(t.clean) == _snapshot(report.table) == _snapshot(apply_log(log, t.raw, ctx))
 
 
 OPS = st.lists(st.integers(0, len(EDITS) - 1), min_size=1, max_size=8)

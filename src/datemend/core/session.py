@@ -395,9 +395,32 @@ class Session:
         return replay(log, self._raw, self.ctx_for(log), progress)
 
     def accept_replay(self, report: Any) -> None:
-        """Take the replayed log and its table (one undo step)."""
-        log = report.log
-        self.set_log(log, "Replay a fix log")
+        """Take the replayed log and the table it gave (one undo step; the table is reused when
+        the report was made on this session's table, so nothing is applied twice)."""
+        log: FixLog = report.log
+        table = getattr(report, "table", None)
+        reuse = (
+            isinstance(table, CleanTable)
+            and table.raw is self._raw
+            and len(log.entries) > 0
+            and table.key_column == self.ctx_for(log).key_column
+        )
+        if not reuse:
+            self.set_log(log, "Replay a fix log")
+            return
+        label = "Replay a fix log"
+        atom = _Atom(label, self._log, log)
+        old_clean = self._tables[-1] if self._tables else None
+        old_log, self._log = self._log, log
+        base = CleanTable(self._raw, key_column=table.key_column)
+        self._tables = [base, *([None] * (len(log.entries) - 1)), table]
+        self._tables_for = log
+        self._emit(SessionEvent("log", _touched(old_log, log), label))
+        self._emit(SessionEvent("clean", _clean_changes(old_clean, table)))
+        if self._group is not None:
+            self._group.append(atom)
+        else:
+            self._push(atom)
 
     def ctx_for(self, log: FixLog) -> ApplyContext:
         if self._today is None:

@@ -144,37 +144,82 @@ def test_auto_log_then_apply_round_trip(tmp_path):
     assert out["Joined"].iloc[0] == pd.Timestamp("2019-05-01")  # ISO 8601, by hand
 
 
+def test_replay_gives_the_drift_report_and_the_frame(tmp_path):
+    from datemend.core.replay import replay
+
+    path = _roster_csv(tmp_path / "roster.csv")
+    log = _log_for(path)
+    df = _read_like_a_notebook(path)
+    view = df.datemend.replay(log, today=TODAY)
+    core = replay(log, read_table(path), ApplyContext(today=TODAY))
+    # a frame has no file name and no checksum to compare with the log's source file
+    assert view.report.to_dict() == {**core.to_dict(), "file": None, "same_file": None}
+    joined = view.report.column("Joined")
+    # by hand: 2019-05-01 and 2024-02-29 read; "n/a" and the empty cell blank; 2021-02-30 was
+    # set by hand (February 2021 has 28 days)
+    assert (joined.matched, joined.blank, joined.manual, joined.unmatched) == (2, 2, 1, 0)
+    pd.testing.assert_frame_equal(view.frame, df.datemend.apply(log, today=TODAY))
+    assert "Joined" in str(view)
+    assert "<table" in view._repr_html_()
+
+
 # ------------------------------------------------------------------------------ samples
 
+OCTOBER = SAMPLES / "rowing_club_2026-10.csv"
+NOVEMBER = SAMPLES / "rowing_club_2026-11.xlsx"
+needs_samples = pytest.mark.skipif(
+    not (OCTOBER.exists() and NOVEMBER.exists()), reason="sample_files/ not built yet"
+)
 
-def _sample_pairs() -> list[Path]:
-    return sorted(p for p in SAMPLES.glob("*.csv")) if SAMPLES.is_dir() else []
 
-
-@pytest.mark.skipif(not _sample_pairs(), reason="sample_files/ has no CSV sample yet")
-@pytest.mark.parametrize("path", _sample_pairs(), ids=lambda p: p.name)
-def test_samples_scan_apply_same_values_as_core_replay(path):
-    raw = read_table(path)
-    # the notebook route: read the file with pandas, all text, then the accessor
+@pytest.fixture(scope="module")
+def october():
+    """The October sample read the notebook way, its scan, and the auto log from that scan."""
+    raw = read_table(OCTOBER)
     enc = raw.facts.encoding or "utf-8"
     df = pd.read_csv(
-        path,
+        OCTOBER,
         dtype=str,
         keep_default_na=False,
         sep=raw.facts.delimiter or ",",
         encoding="utf-8-sig" if enc in ("utf-8", "utf-8-sig") else enc,
     )
     view = df.datemend.scan()
+    return raw, df, view, make_auto_log(raw, list(view))
+
+
+@needs_samples
+def test_sample_scan_apply_same_values_as_core(october):
+    raw, df, view, log = october
     assert view.columns == raw.names
-    log = make_auto_log(raw, list(view))  # the accessor's scan feeds the CLI's auto log
-    assert len(log.entries) >= 1
-    log_path = Path(path).with_suffix(".datemend.json")
+    assert len(log.entries) >= 1  # the accessor's scan fed the CLI's auto log
     got = df.datemend.apply(log, today=TODAY)
-    ctx = ApplyContext(today=TODAY)
-    core = apply_log(log, raw, ctx)
+    core = apply_log(log, raw, ApplyContext(today=TODAY))
     core_df = core.to_dataframe()
     assert list(got.columns) == list(core_df.columns)
     for pc in core.parsed.values():
         name = pc.output_name
         np.testing.assert_array_equal(got[name].to_numpy(), core_df[name].to_numpy(), err_msg=name)
-    assert not log_path.exists()  # nothing written next to the sample
+
+
+@needs_samples
+def test_sample_replay_on_next_month_matches_core_replay(october):
+    from datemend.core.replay import replay
+
+    _, _, _, log = october
+    raw = read_table(NOVEMBER)
+    nov = raw.to_dataframe()  # a workbook's cells with their kinds, as a DataFrame
+    view = nov.datemend.replay(log, today=TODAY)
+    core = replay(log, raw, ApplyContext(today=TODAY))
+    mine, ref = view.report.to_dict(), core.to_dict()
+    # a DataFrame has no file name, sheet or checksum; everything else must be the same
+    for key in ("file", "sheet", "same_file"):
+        mine.pop(key), ref.pop(key)
+    assert mine == ref
+    ref_df = core.table.to_dataframe()
+    for pc in core.table.parsed.values():
+        name = pc.output_name
+        np.testing.assert_array_equal(
+            view.frame[name].to_numpy(), ref_df[name].to_numpy(), err_msg=name
+        )
+    assert "read by none" in str(view)  # the drift table is there in text

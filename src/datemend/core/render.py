@@ -367,7 +367,7 @@ def _drift_parts(r: Any) -> list[tuple[str, Any]]:
                             [
                                 g.shape,
                                 g.count,
-                                ", ".join(g.examples),
+                                "; ".join(g.examples),
                                 g.rows[0] if g.rows else "",
                                 g.suggestion or "",
                             ]

@@ -344,3 +344,25 @@ def test_replayed_november_values_match_the_truth(october, november):
                 intended = nov[member][name][0]
                 got = str(pc.value[i].astype("datetime64[D]"))
                 assert got == intended, (name, member, nov[member][name])
+
+
+def test_a_log_follows_renamed_columns():
+    log, _ = _oct_log()
+    nov = _raw(
+        {
+            "Member": ["M1", "M2"],
+            "Name": ["Ann", "Bo"],
+            "Date of birth": ["1950-03-04", "2010-05-06"],
+        },
+        "nov.csv",
+    )
+    r = replay(log, nov)
+    assert r.likely_renames == {"Born": "Date of birth", "Member no": "Member"}
+    moved = log.with_columns_renamed(r.likely_renames)
+    assert moved.key_column == "Member"
+    step = moved.entries[2].step
+    assert (step.column, step.key_column, step.key) == ("Date of birth", "Member", "M2")
+    again = replay(moved, nov)
+    assert again.missing == () and again.lost_keys == ()
+    pc = again.table.parsed["Date of birth"]
+    assert list(pc.state) == [CellState.PARSED, CellState.MANUAL]

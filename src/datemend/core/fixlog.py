@@ -279,6 +279,23 @@ class FixLog:
         items.insert(dst, item)
         return self._with(items)
 
+    def with_columns_renamed(self, mapping: dict[str, str]) -> FixLog:
+        """The log with its steps reading the new names of renamed columns (e.g. the likely
+        matches of a drift report); the source facts follow the new names too."""
+        entries = tuple(
+            LogEntry(e.step.with_columns_renamed(mapping), e.enabled) for e in self.entries
+        )
+        key = mapping.get(self.key_column, self.key_column) if self.key_column else None
+        src = self.source
+        if src is not None:
+            src = dataclasses.replace(
+                src,
+                columns=tuple(mapping.get(c, c) for c in src.columns),
+                ranges={mapping.get(k, k): v for k, v in src.ranges.items()},
+                unresolved={mapping.get(k, k): v for k, v in src.unresolved.items()},
+            )
+        return self.evolve(entries=entries, key_column=key, source=src)
+
     def with_source(self, clean: CleanTable) -> FixLog:
         """The log with facts (and value ranges) taken from the table it was made on."""
         return self.evolve(source=LogSource.of(clean))

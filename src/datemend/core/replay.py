@@ -141,6 +141,11 @@ class ReplayReport:
         return bool(structural) or any(c.has_drift for c in self.columns)
 
     @property
+    def likely_renames(self) -> dict[str, str]:
+        """Missing column → its likely new name, for ``FixLog.with_columns_renamed``."""
+        return {m.name: m.likely for m in self.missing if m.likely is not None}
+
+    @property
     def unresolved(self) -> int:
         """Cells left failed or ambiguous."""
         return sum(c.unmatched + c.ambiguous for c in self.columns)

@@ -236,6 +236,21 @@ class Step:
         """Source or output column names this step needs."""
         return ()
 
+    def with_columns_renamed(self, mapping: dict[str, str]) -> Step:
+        """This step reading renamed columns: every field value (or tuple item) that is one of
+        ``columns_read()`` and a key of ``mapping`` is replaced."""
+        read = set(self.columns_read()) & set(mapping)
+        if not read:
+            return self
+        changes: dict[str, Any] = {}
+        for f in dataclasses.fields(self):  # type: ignore[arg-type]
+            v = getattr(self, f.name)
+            if isinstance(v, str) and v in read:
+                changes[f.name] = mapping[v]
+            elif isinstance(v, tuple) and any(isinstance(x, str) and x in read for x in v):
+                changes[f.name] = tuple(mapping.get(x, x) if x in read else x for x in v)
+        return dataclasses.replace(self, **changes)  # type: ignore[type-var]
+
     @classmethod
     def apply_many(cls, table: CleanTable, steps: Sequence[Step], ctx: ApplyContext) -> CleanTable:
         """Apply consecutive steps of this kind; a kind may override it to share work (copying

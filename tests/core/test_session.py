@@ -302,3 +302,31 @@ def test_edits_inside_a_run_of_hand_set_cells():
     while s.undo():
         ctx = ApplyContext(today=TODAY, key_column=s.log.key_column)
         assert _snapshot(s.clean) == _snapshot(apply_log(s.log, s.raw, ctx))
+
+
+def test_set_cell_falls_back_to_the_row_number_when_the_key_is_shared():
+    raw = RawTable.from_dataframe(pd.DataFrame({"Team": ["A", "A", "B"], "Born": ["x", "y", "z"]}))
+    s = Session(raw, FixLog(key_column="Team"), today=TODAY)
+    s.add_step(ReadDates("Born", ISO))
+    s.set_cell("Born", 1, "1990-01-01")  # "A" is on two rows
+    step = s.log.entries[-1].step
+    assert (step.key_column, step.key) == (None, "3")  # sheet row 3 (header on row 1)
+    s.set_cell("Born", 2, "1991-01-01")  # "B" is unique
+    step = s.log.entries[-1].step
+    assert (step.key_column, step.key) == ("Team", "B")
+    assert list(s.clean.parsed["Born"].state) == [
+        CellState.FAILED,
+        CellState.MANUAL,
+        CellState.MANUAL,
+    ]
+    assert any("found by row number" in w for w in s.clean.warnings)
+
+
+def test_rename_log_columns_is_one_undo_step():
+    s = _session()
+    before = s.log
+    s.rename_log_columns({"Born": "Date of birth"})
+    assert s.log.entries[0].step.column == "Date of birth"
+    assert any("is not in the file" in w for w in s.clean.warnings)
+    s.undo()
+    assert s.log is before

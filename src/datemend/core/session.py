@@ -16,7 +16,7 @@ from .clean import CleanTable, ParsedColumn
 from .fixlog import FixLog, LogEntry, apply_entry, apply_run
 from .progress import Progress
 from .report import ColumnReport, Suggestion
-from .rowkey import cells_text, detect_key_column, key_of_row
+from .rowkey import cells_text, detect_key_column, find_rows, key_of_row
 from .spec import ParseSpec
 from .steps import ApplyContext, BlankTokens, DatePart, ReadDates, RenameColumn, SetCell, Step
 from .table import RawTable
@@ -100,9 +100,9 @@ class Session:
 
     Log edits (each one undo step, grouped with ``with session.group("label"):``): ``add_step``,
     ``remove_step``, ``set_enabled``, ``move_step``, ``replace_step``, ``set_log``,
-    ``set_key_column``, and the shortcuts ``use_suggestion``, ``blank_tokens``, ``set_cell``,
-    ``keep_date_part``, ``rename``. A new edit clears redo. ``undo``/``redo`` restore the exact
-    previous log.
+    ``set_key_column``, ``rename_log_columns``, and the shortcuts ``use_suggestion``,
+    ``blank_tokens``, ``set_cell``, ``keep_date_part``, ``rename``. A new edit clears redo.
+    ``undo``/``redo`` restore the exact previous log.
 
     Events (``subscribe(callback)``; the callback gets a ``SessionEvent``), in this order after an
     edit: ``"log"``, then ``"clean"`` (once recomputed), then ``"history"``. ``set_table`` emits
@@ -353,6 +353,12 @@ class Session:
         row is keyed by the log's key column, else by its source row number. A second hand-set
         value for the same cell replaces the first step."""
         key_col = self._log.key_column
+        if key_col is not None and key_col in self._raw:
+            key = key_of_row(self._raw, key_col, row)
+            if key == "" or len(find_rows(self._raw, key_col, key)) != 1:
+                key_col = None  # this row's key is empty or shared: fall back to its row number
+        else:
+            key_col = None
         key = key_of_row(self._raw, key_col, row)
         raw = str(cells_text(self._raw.column(column), [row]).iat[0])
         step = SetCell(column, key, value, key_col, raw, note)
@@ -366,6 +372,12 @@ class Session:
                 self.replace_step(i, step)
                 return
         self.add_step(step)
+
+    def rename_log_columns(self, mapping: dict[str, str]) -> None:
+        """Make the log read renamed columns (e.g. a drift report's ``likely_renames``)."""
+        log = self._log.with_columns_renamed(mapping)
+        if log != self._log:
+            self.set_log(log, "Follow renamed columns")
 
     def keep_date_part(self, column: str) -> None:
         self.add_step(DatePart(column))

@@ -164,12 +164,16 @@ def test_replay_october_log_on_november_shows_drift_then_problems_first(
         pass
     dialog = window.replay_dialog
     assert dialog is not None and dialog.isVisible()
-    text = dialog.text.toPlainText()
+    text = " ".join(dialog.text.toPlainText().split())
     # Drift planted in November (truth.json "november_drift"): a moved column, a new placeholder
-    # "tbc" in Safety course, a new "Nov 3, 2027" style in Renewal due.
-    assert "Safety course" in text
-    assert "tbc" in text
-    assert "Renewal due" in text
+    # "tbc" in Safety course, a new "Nov 3, 2027" style in Renewal due, members left and joined.
+    drift = {d["kind"]: d for d in json.loads(TRUTH.read_text(encoding="utf-8"))["november_drift"]}
+    assert "What matched" in text and "What is new" in text and "What is missing" in text
+    assert "Column “Safety course” is in another place" in text
+    assert "new placeholder-like value “tbc”" in text
+    assert "“Renewal due”:" in text and "2027" in text
+    assert f"{len(drift['members_left']['member_nos'])} rows of last time's file are gone" in text
+    assert f"{len(drift['members_joined']['member_nos'])} rows with keys not seen" in text
     with qtbot.waitSignal(window.document_ready, timeout=10_000):
         qtbot.mouseClick(dialog.use, Qt.MouseButton.LeftButton)
     assert window.path == NOVEMBER

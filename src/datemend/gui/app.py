@@ -11,7 +11,7 @@ from PySide6.QtWidgets import QApplication
 from .errors import sentence_for
 from .window import ICON, MainWindow
 
-__all__ = ["make_app", "run_app"]
+__all__ = ["make_app", "make_window", "run_app"]
 
 
 def make_app(argv: list[str] | None = None) -> QApplication:
@@ -26,17 +26,26 @@ def make_app(argv: list[str] | None = None) -> QApplication:
     return app
 
 
-def run_app(file: str | None = None) -> int:
-    """Open the window (on ``file`` if given) and run until it is closed; the exit code."""
-    app = make_app()
+def make_window(file: str | None = None) -> MainWindow:
+    """The shown window, opening ``file`` if given; unexpected errors in slots become one
+    sentence on screen with the traceback in the log file."""
+    make_app()
     window = MainWindow()
 
     def hook(kind: type[BaseException], err: BaseException, tb: TracebackType | None) -> None:
-        # A slot that raised: one sentence on screen, the traceback only in the log file.
         window.show_error(sentence_for(err.with_traceback(tb), "working"))
 
     sys.excepthook = hook
     window.show()
     if file:
         window.open_file(file)
-    return int(app.exec())
+    return window
+
+
+def run_app(file: str | None = None) -> int:
+    """Open the window (on ``file`` if given) and run until it is closed; the exit code."""
+    app = make_app()
+    window = make_window(file)
+    code = int(app.exec())
+    window.close()  # stops and waits for any work still running
+    return code

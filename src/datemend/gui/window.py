@@ -569,10 +569,10 @@ class MainWindow(QMainWindow, FileAsker):
         )
 
     def _show_replay(self, session: Session, report: Any, path: Path, sheets: list[str]) -> None:
-        from ..core.render import replay_html
+        from .replay_view import replay_check_html
 
         headline = _headline(report, path)
-        dialog = ReplayDialog(replay_html(report), headline, self)
+        dialog = ReplayDialog(replay_check_html(report), headline, self)
         self.replay_dialog = dialog
         dialog.accepted.connect(lambda: self._accept_replay(session, report, path, sheets))
         dialog.open()

@@ -17,7 +17,7 @@ import pyarrow.parquet as pq
 import pytest
 from test_export_book import HEADER_ROW, build_book, clean_table, sha256
 
-from datemend.core import export_flat
+from datemend.core import export_flat, export_stream
 from datemend.core.clean import CellState, CleanTable, ParsedColumn
 from datemend.core.export import ExportError, ExportOptions, export_table
 from datemend.core.progress import Cancelled, Progress
@@ -176,7 +176,11 @@ def test_flat_writes_failing_midway(book, tmp_path, monkeypatch, fmt):
     elif fmt == "parquet":
         monkeypatch.setattr(pq, "write_table", _partial_then(full))
     else:
-        monkeypatch.setattr(openpyxl.Workbook, "save", _partial_then(full))
+
+        def package(*args):
+            raise full  # after the sheet data has been written into the temporary file
+
+        monkeypatch.setattr(export_stream, "_write_package", package)
     opts = ExportOptions(streaming=True) if fmt == "streaming-xlsx" else None
     with pytest.raises(ExportError, match="the disk is full"):
         export_table(table, target, overwrite=True, options=opts)

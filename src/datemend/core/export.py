@@ -5,8 +5,9 @@
 - ``"workbook"``: XLSX/XLSM source to XLSX/XLSM target. The source workbook is opened with
   openpyxl (formulas kept, macros kept for XLSM), only the cells of the fixed columns change, and
   every other sheet, value, number format, width, merged range and formula stays as it was.
-- ``"streaming"``: a new single-sheet XLSX written row by row (openpyxl write-only mode), used
-  when the workbook need not be kept (a CSV or ODS source, or ``ExportOptions.streaming``).
+- ``"streaming"``: a new XLSX whose sheet XML is built column by column and written in chunks
+  (export_stream.py), used when the workbook need not be kept (a CSV or ODS source, or
+  ``ExportOptions.streaming``).
 - ``"csv"`` and ``"parquet"``: flat files built with vectorised column operations.
 
 ODS is read, not written: an ``.ods`` target raises ExportError.
@@ -255,7 +256,7 @@ def export_table(
         if target.suffix.lower() == ".xlsm" and facts.format != "xlsm":
             raise ExportError(f"{target.name}: an XLSM file can only come from an XLSM source.")
 
-    from . import export_flat, export_xlsx
+    from . import export_flat, export_stream, export_xlsx
 
     write: Callable[[Path], tuple[int, int, int, int, list[str]]]
     if writer == "workbook":
@@ -268,7 +269,7 @@ def export_table(
     elif writer == "streaming":
 
         def write(tmp: Path) -> tuple[int, int, int, int, list[str]]:
-            return export_xlsx.write_streaming(clean, tmp, options, log_lines, progress)
+            return export_stream.write_stream(clean, tmp, options, log_lines, progress)
     elif writer == "csv":
 
         def write(tmp: Path) -> tuple[int, int, int, int, list[str]]:

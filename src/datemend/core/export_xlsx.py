@@ -1,4 +1,4 @@
-"""XLSX writers: keep the source workbook and change only the fixed cells, or stream a new one.
+"""XLSX writer that keeps the source workbook and changes only the fixed cells.
 
 openpyxl turns any string that begins with "=" into a formula when it is assigned; every string
 written here is therefore marked as text afterwards (``data_type = "s"``). Cells that were
@@ -7,7 +7,6 @@ formulas in the source are never touched, so they stay formulas.
 
 from __future__ import annotations
 
-import contextlib
 import datetime as _dt
 from collections.abc import Sequence
 from pathlib import Path
@@ -15,19 +14,18 @@ from typing import Any
 
 import numpy as np
 import openpyxl
-from openpyxl.cell import WriteOnlyCell
-from openpyxl.cell.cell import ERROR_CODES, ILLEGAL_CHARACTERS_RE, MergedCell
+from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE, MergedCell
 from openpyxl.comments import Comment
 from openpyxl.utils import get_column_letter
 from openpyxl.utils.datetime import CALENDAR_MAC_1904
 
 from .clean import CellState, CleanTable
 from .export import DateOut, ExportError, ExportOptions, prepare_dates, unique_name, zone_note
-from .export_flat import flat_layout, python_values
+from .export_flat import python_values
 from .progress import Progress
 from .table import CellKind, RawTable, _as_text
 
-__all__ = ["write_streaming", "write_workbook"]
+__all__ = ["write_workbook"]
 
 Counts = tuple[int, int, int, int, list[str]]
 _AUTHOR = "datemend"
@@ -402,207 +400,3 @@ def _log_sheet(wb: Any, lines: Sequence[str], fix: _Text) -> None:
         ws.cell(r, 1).value = r - 1
         _put_text(ws.cell(r, 2), str(line), fix)
     ws.column_dimensions["B"].width = 100
-
-
-# --------------------------------------------------------------------------- a new workbook
-
-
-def write_streaming(
-    clean: CleanTable,
-    tmp: Path,
-    options: ExportOptions,
-    log_lines: Sequence[str],
-    progress: Progress,
-) -> Counts:
-    """A new workbook written row by row (openpyxl write-only): memory stays flat."""
-    wb = openpyxl.Workbook(write_only=True)
-    try:
-        return _stream_book(wb, clean, tmp, options, log_lines, progress)
-    except BaseException:
-        _discard(wb)
-        raise
-
-
-def _discard(wb: Any) -> None:
-    """Close and delete openpyxl's own per-sheet temporary files after a failed write."""
-    for ws in wb.worksheets:
-        with contextlib.suppress(Exception):
-            if ws._rows is not None:
-                ws._rows.close()
-        with contextlib.suppress(Exception):
-            if ws._writer is not None:
-                ws._writer.close()
-                ws._writer.cleanup()
-
-
-def _stream_book(
-    wb: Any,
-    clean: CleanTable,
-    tmp: Path,
-    options: ExportOptions,
-    log_lines: Sequence[str],
-    progress: Progress,
-) -> Counts:
-    title = options.sheet_name or clean.raw.facts.sheet or "Data"
-    ws = wb.create_sheet(title[:31])
-    fix = _Text()
-    earliest = _min_date(wb.epoch)
-    layout = flat_layout(clean, options, beside=True)
-    columns: list[list[object]] = []
-    heads: list[object] = []
-    dates = unresolved = early = 0
-    notes: list[str] = []
-    for col in layout:
-        head = col.name
-        if col.dates is not None:
-            d = col.dates
-            if d.aware:
-                if options.zone_in_header:
-                    head = f"{head} ({options.zone})"
-                else:
-                    notes.append(zone_note(options, col.name))
-            cells, n_dates, n_early = _stream_dates(ws, d, col, options, fix, earliest)
-            dates += n_dates
-            early += n_early
-            unresolved += d.unresolved
-        elif col.series is not None:
-            values, fmt = python_values(col.series, options)
-            cells = [_stream_value(ws, v, fmt, fix, earliest) for v in values]
-        else:
-            assert col.values is not None and col.kinds is not None
-            cells = _stream_raw(ws, col.values, col.kinds, fix)
-        heads.append(_text_cell(ws, head, fix))
-        columns.append(cells)
-    for j, col in enumerate(layout, 1):
-        wide = col.dates is not None and not col.dates.date_only
-        ws.column_dimensions[get_column_letter(j)].width = max(
-            len(col.name) + 2, 20 if wide else 12
-        )
-    ws.append(heads)
-    n = clean.raw.n_rows
-    for r, row in enumerate(zip(*columns), 1):
-        ws.append(list(row))
-        if r % 20000 == 0:
-            progress.report(r, n, "Writing rows")
-    progress.report(n, n, "Saving the workbook")
-    if options.unresolved_sheet or options.log_sheet:
-        _stream_extra_sheets(wb, clean, log_lines, options, fix, title)
-    wb.save(tmp)
-    if early:
-        notes.append(
-            f"{early} dates fall before 1900-01-01, where XLSX dates begin, and were written as "
-            "ISO 8601 text."
-        )
-    notes += fix.note()
-    return n, len(layout), dates, unresolved, notes
-
-
-def _text_cell(ws: Any, text: str, fix: _Text) -> Any:
-    cell = WriteOnlyCell(ws, value=fix.clean(text))
-    cell.data_type = "s"
-    return cell
-
-
-def _stream_value(ws: Any, v: object, fmt: str | None, fix: _Text, earliest: Any) -> object:
-    if v is None:
-        return None
-    if isinstance(v, str):
-        return _text_cell(ws, v, fix)
-    if isinstance(v, _dt.date):
-        if np.datetime64(v, "us") < earliest:
-            return _text_cell(ws, v.isoformat(), fix)
-        cell = WriteOnlyCell(ws, value=v)
-        if fmt:
-            cell.number_format = fmt
-        return cell
-    return v
-
-
-def _stream_raw(ws: Any, values: np.ndarray, kinds: np.ndarray, fix: _Text) -> list[object]:
-    """Raw cells for write-only rows; plain values where openpyxl keeps them as they are."""
-    out = list(values)
-    for i in np.flatnonzero(kinds == CellKind.TEXT):
-        s = values[i]
-        if isinstance(s, str) and (s.startswith("=") or s in ERROR_CODES or _illegal(s)):
-            out[i] = _text_cell(ws, s, fix)
-    for i in np.flatnonzero(kinds == CellKind.ERROR):
-        cell = WriteOnlyCell(ws, value=fix.clean(str(values[i])))
-        cell.data_type = "e"
-        out[i] = cell
-    for i in np.flatnonzero(kinds == CellKind.EMPTY):
-        out[i] = None
-    return out
-
-
-def _illegal(s: str) -> bool:
-    return ILLEGAL_CHARACTERS_RE.search(s) is not None
-
-
-def _stream_dates(
-    ws: Any,
-    d: DateOut,
-    col: Any,
-    options: ExportOptions,
-    fix: _Text,
-    earliest: Any,
-) -> tuple[list[object], int, int]:
-    assert col.values is not None and col.kinds is not None
-    out = _stream_raw(ws, col.values, col.kinds, fix)
-    values = _date_objects(d)
-    fmt = options.date_format if d.date_only else options.datetime_format
-    too_early = d.ok & (d.local < earliest)
-    for i in np.flatnonzero(d.blank):
-        out[i] = None
-    for i in np.flatnonzero(too_early):
-        out[i] = _text_cell(ws, _iso(values[i]), fix)
-    good = np.flatnonzero(d.ok & ~too_early)
-    for i in good:
-        cell = WriteOnlyCell(ws, value=values[i])
-        cell.number_format = fmt
-        out[i] = cell
-    return out, len(good), int(too_early.sum())
-
-
-def _stream_extra_sheets(
-    wb: Any,
-    clean: CleanTable,
-    log_lines: Sequence[str],
-    options: ExportOptions,
-    fix: _Text,
-    sheet: str,
-) -> None:
-    raw = clean.raw
-    if options.unresolved_sheet:
-        ws = wb.create_sheet("Unresolved cells")
-        ws.append(
-            [
-                _text_cell(ws, h, fix)
-                for h in ("Sheet", "Row key", "Source row", "Column", "Raw value", "Reason")
-            ]
-        )
-        keys = raw.column(clean.key_column).text() if clean.key_column in raw else None
-        rows = np.asarray(raw.source_rows)
-        for source, pc in clean.parsed.items():
-            if source not in raw:
-                continue
-            rc = raw.column(source)
-            d = prepare_dates(pc, rc.kinds, options)
-            for i in np.flatnonzero(d.keep):
-                key = None if keys is None or keys.iloc[i] is None else str(keys.iloc[i])
-                reason = pc.reason[i] or _REASON.get(CellState(int(pc.state[i])), "Unresolved.")
-                raw_cell = _stream_raw(ws, rc.values[i : i + 1], rc.kinds[i : i + 1], fix)[0]
-                ws.append(
-                    [
-                        _text_cell(ws, sheet, fix),
-                        None if key is None else _text_cell(ws, key, fix),
-                        int(rows[i]),
-                        _text_cell(ws, pc.output_name, fix),
-                        raw_cell,
-                        _text_cell(ws, str(reason), fix),
-                    ]
-                )
-    if options.log_sheet:
-        ws = wb.create_sheet("Fix log")
-        ws.append([_text_cell(ws, "Step", fix), _text_cell(ws, "What it does", fix)])
-        for k, line in enumerate(log_lines, 1):
-            ws.append([k, _text_cell(ws, str(line), fix)])

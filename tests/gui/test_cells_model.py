@@ -165,3 +165,32 @@ def test_million_rows_filter_without_python_loops(qtmodeltester):
     m.set_filter(RowFilter(mode="problems"))
     assert m.rowCount() == 1000
     assert m.data(m.index(999, m.column_of(Column.ROW))) == str(999_000)
+
+
+def test_find_on_a_big_table_waits_for_a_pause_in_typing(qtbot):
+    from datemend.gui.cells_pane import CellsPane
+
+    pane = CellsPane()
+    qtbot.addWidget(pane)
+    pane.set_source(make_source())
+    pane.find_pause_rows = 0  # treat this table as big
+    qtbot.keyClicks(pane.find, "1900")
+    assert pane.model.rowCount() == len(ROWS)  # nothing found yet: still typing
+    with qtbot.waitSignal(pane.model.rows_changed, timeout=3000):
+        pass
+    assert pane.model.rows.tolist() == [5]  # "1900-01-01", row 5 of ROWS
+
+
+def test_find_matches_distinct_values_back_to_every_row(qtbot):
+    n = 10_000
+    raw = RawColumn(
+        "d",
+        np.array(["03/10/2019", "n/a", None, "Ask Sam"] * (n // 4), dtype=object),
+        np.array([CellKind.TEXT, CellKind.TEXT, CellKind.EMPTY, CellKind.TEXT] * (n // 4), np.int8),
+    )
+    m = CellsModel()
+    m.set_source(CellsSource(raw, None, np.arange(n)))
+    m.set_filter(RowFilter(find="ask"))  # case-insensitive
+    assert m.rows.tolist() == list(range(3, n, 4))
+    m.set_filter(RowFilter(find="/10/"))
+    assert m.rowCount() == n // 4

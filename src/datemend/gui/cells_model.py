@@ -12,6 +12,7 @@ Signals:
 
 from __future__ import annotations
 
+import datetime as _dt
 from dataclasses import dataclass, field
 from enum import Enum
 
@@ -42,6 +43,15 @@ class Column(Enum):
 
 
 COLUMNS: tuple[Column, ...] = tuple(Column)
+
+_R = Qt.ItemDataRole
+_DISPLAY, _EDIT, _USER = int(_R.DisplayRole.value), int(_R.EditRole.value), int(_R.UserRole.value)
+_TOOLTIP, _FOREGROUND = int(_R.ToolTipRole.value), int(_R.ForegroundRole.value)
+_ACCESSIBLE = int(_R.AccessibleTextRole.value)
+_ROLES_USED = frozenset({_DISPLAY, _EDIT, _USER, _TOOLTIP, _FOREGROUND, _ACCESSIBLE})
+_LOOKS = tuple(state_look(s) for s in sorted(CellState))  # indexed by the int8 state
+_STATE_COLOURS = tuple(QColor(look.colour) for look in _LOOKS)
+_MANUAL = int(CellState.MANUAL)
 
 _HEADER_TIPS = {
     Column.ROW: "Row number in the file or sheet (the header is above the first).",
@@ -109,14 +119,25 @@ class CellsSource:
         return mask
 
 
-def format_value(value: np.datetime64, has_time: bool, offset_min: int, date_only: bool) -> str:
-    """ISO 8601 text of one parsed value: date, or date-time with an offset when one was written."""
-    if np.isnat(value):
+_NAT = np.iinfo(np.int64).min
+_EPOCH = _dt.datetime(1970, 1, 1)
+
+
+def format_value(
+    value: np.datetime64 | int, has_time: bool, offset_min: int, date_only: bool
+) -> str:
+    """ISO 8601 text of one parsed value: date, or date-time with an offset when one was written.
+
+    ``value`` is a datetime64 or its int64 microseconds (the fast path the model uses); Python's
+    datetime does the calendar work (years 1–9999), about a microsecond a cell.
+    """
+    us = int(value) if isinstance(value, int) else int(np.datetime64(value, "us").view(np.int64))
+    if us == _NAT:
         return ""
+    when = _EPOCH + _dt.timedelta(microseconds=us)
     if date_only or not has_time:
-        return str(value.astype("datetime64[D]"))
-    us = int(value.astype("datetime64[us]").astype(np.int64) % 1_000_000)
-    text = np.datetime_as_string(value, unit="us" if us else "s")
+        return when.date().isoformat()
+    text = when.isoformat(timespec="microseconds" if when.microsecond else "seconds")
     if offset_min != NAIVE:
         sign = "+" if offset_min >= 0 else "-"
         h, m = divmod(abs(int(offset_min)), 60)
@@ -146,7 +167,9 @@ class CellsModel(QAbstractTableModel):
         self._filter = RowFilter()
         self._rows = np.zeros(0, dtype=np.int64)
         self._columns: tuple[Column, ...] = COLUMNS
-        self._find_text: np.ndarray | None = None  # lower-case raw text, built on first find
+        self._find_text: tuple[np.ndarray, pd.Series] | None = None  # codes, lower-case uniques
+        self._find_iso: tuple[ParsedColumn, pd.Series, np.ndarray] | None = None
+        self._value_us = np.zeros(0, dtype=np.int64)
 
     # -- what is shown ---------------------------------------------------------------------
     @property
@@ -172,7 +195,13 @@ class CellsModel(QAbstractTableModel):
         self.beginResetModel()
         if source is None or self._source is None or source.raw is not self._source.raw:
             self._find_text = None
+            self._find_iso = None
         self._source = source
+        self._value_us = (
+            np.zeros(0, dtype=np.int64)
+            if source is None or source.parsed is None
+            else source.parsed.value.astype("datetime64[us]", copy=False).view(np.int64)
+        )
         if source is None:
             self._columns = COLUMNS
         else:
@@ -223,16 +252,27 @@ class CellsModel(QAbstractTableModel):
         return rows.astype(np.int64)
 
     def _find_mask(self, needle: str) -> np.ndarray:
+        """Rows whose raw text or ISO date contains ``needle``: the search runs over the distinct
+        values only (factorized once per column), then maps back to rows with one take."""
         assert self._source is not None
+        needle = needle.lower()
         if self._find_text is None:
-            self._find_text = self._source.raw.text().fillna("").str.lower().to_numpy(dtype=object)
-        text = pd.Series(self._find_text, dtype=object)
-        hit = text.str.contains(needle.lower(), regex=False).to_numpy(dtype=bool)
+            codes, uniques = pd.factorize(self._source.raw.text(), use_na_sentinel=True)
+            lowered = pd.Series(np.asarray(uniques, dtype=object), dtype=object).str.lower()
+            self._find_text = (codes, lowered)
+        codes, lowered = self._find_text
+        hit_u = np.append(lowered.str.contains(needle, regex=False).to_numpy(dtype=bool), False)
+        hit = hit_u[codes]  # code -1 (empty cell) takes the appended False
         p = self._source.parsed
         if p is not None:
-            iso = pd.Series(np.datetime_as_string(p.value, unit="D"), dtype=object)
-            in_iso = iso.str.contains(needle.lower(), regex=False).to_numpy(dtype=bool)
-            hit = hit | (in_iso & ~np.isnat(p.value))
+            if self._find_iso is None or self._find_iso[0] is not p:
+                days = p.value.astype("datetime64[D]")
+                uniq, inverse = np.unique(days, return_inverse=True)
+                iso = pd.Series(np.datetime_as_string(uniq, unit="D"), dtype=object)
+                self._find_iso = (p, iso, inverse.reshape(-1))
+            _p, iso, inverse = self._find_iso
+            in_iso = iso.str.contains(needle, regex=False).to_numpy(dtype=bool)
+            hit = hit | (in_iso[inverse] & ~np.isnat(p.value))
         return hit
 
     # -- Qt model interface ----------------------------------------------------------------
@@ -274,31 +314,36 @@ class CellsModel(QAbstractTableModel):
             base |= Qt.ItemFlag.ItemIsEditable
         return base
 
-    def data(self, index: _Index, role: int = Qt.ItemDataRole.DisplayRole) -> object:
-        if not index.isValid() or self._source is None:
+    def data(self, index: _Index, role: int = _DISPLAY) -> object:
+        # Hot path (called for every visible cell and role): plain ints, no enum look-ups.
+        role = int(role)
+        if role not in _ROLES_USED or self._source is None:
             return None
-        if not (0 <= index.row() < len(self._rows) and 0 <= index.column() < len(self._columns)):
+        row, c = index.row(), index.column()
+        if not (0 <= row < len(self._rows) and 0 <= c < len(self._columns)) or not index.isValid():
             return None
-        r = int(self._rows[index.row()])
-        col = self._columns[index.column()]
+        r = int(self._rows[row])
+        col = self._columns[c]
         src = self._source
         p = src.parsed
-        if role == Qt.ItemDataRole.UserRole:
-            return r
-        if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.EditRole):
+        if role in (_DISPLAY, _EDIT):
             return self._text(col, r, src, p)
-        if role == Qt.ItemDataRole.ToolTipRole:
-            if col is Column.STATE and p is not None:
-                return state_look(p.state[r]).hint
-            if col is Column.NOTE and p is not None and p.reason[r]:
+        if role == _USER:
+            return r
+        if p is None:
+            return None
+        if role == _FOREGROUND:
+            return _STATE_COLOURS[p.state[r]] if col is Column.STATE else None
+        if role == _TOOLTIP:
+            if col is Column.STATE:
+                return _LOOKS[p.state[r]].hint
+            if col is Column.NOTE and p.reason[r]:
                 return str(p.reason[r])
-            if col is Column.READS and p is not None:
+            if col is Column.READS:
                 return "Double-click to set this cell by hand (recorded in the fix log)."
             return None
-        if role == Qt.ItemDataRole.ForegroundRole and col is Column.STATE and p is not None:
-            return QColor(state_look(p.state[r]).colour)
-        if role == Qt.ItemDataRole.AccessibleTextRole and col is Column.STATE and p is not None:
-            return state_look(p.state[r]).word
+        if role == _ACCESSIBLE and col is Column.STATE:
+            return _LOOKS[p.state[r]].word
         return None
 
     def _text(self, col: Column, r: int, src: CellsSource, p: ParsedColumn | None) -> str:
@@ -311,12 +356,14 @@ class CellsModel(QAbstractTableModel):
         if p is None:
             return ""
         if col is Column.READS:
-            return format_value(p.value[r], bool(p.has_time[r]), int(p.offset_min[r]), p.date_only)
+            return format_value(
+                int(self._value_us[r]), bool(p.has_time[r]), int(p.offset_min[r]), p.date_only
+            )
         if col is Column.STATE:
-            return state_look(p.state[r]).label
+            return _LOOKS[p.state[r]].label
         if col is Column.PATTERN:
             i = int(p.pattern[r])
-            if p.state[r] == CellState.MANUAL:
+            if p.state[r] == _MANUAL:
                 return "by hand"
             return p.patterns[i] if 0 <= i < len(p.patterns) else ""
         if col is Column.NOTE:

@@ -10,7 +10,7 @@ Signals:
 from __future__ import annotations
 
 import numpy as np
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import Qt, QTimer, Signal
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QCheckBox,
@@ -132,7 +132,13 @@ class CellsPane(QWidget):
         self._range: tuple[np.datetime64, np.datetime64] | None = None
         self._fill_show_box(None)
         self.show_box.activated.connect(self._show_changed)
-        self.find.textChanged.connect(lambda _t: self._apply_filter())
+        # Find as you type on small tables; on big ones, after a pause in typing (or Enter).
+        self._find_timer = QTimer(self)
+        self._find_timer.setSingleShot(True)
+        self._find_timer.setInterval(350)
+        self._find_timer.timeout.connect(self._apply_filter)
+        self.find.textChanged.connect(self._find_changed)
+        self.find.returnPressed.connect(self._apply_filter)
         self.problems_first.toggled.connect(lambda _b: self._apply_filter())
         self.chart.bar_chosen.connect(self._bar_chosen)
         self.chart.cleared.connect(self._bar_cleared)
@@ -210,7 +216,18 @@ class CellsPane(QWidget):
             problems_first=self.problems_first.isChecked(),
         )
 
+    #: Tables with at least this many rows wait for a pause in typing before finding.
+    find_pause_rows = 200_000
+
+    def _find_changed(self, _text: str) -> None:
+        src = self.model.source
+        if src is not None and len(src.raw) >= self.find_pause_rows:
+            self._find_timer.start()
+        else:
+            self._apply_filter()
+
     def _apply_filter(self) -> None:
+        self._find_timer.stop()
         self.model.set_filter(self._current_filter())
 
     def _show_changed(self, _i: int) -> None:

@@ -488,3 +488,31 @@ def test_no_readings_no_crash_on_empty_column(qtbot, window, tmp_path):
     window.columns.choose("Joined")
     assert window.cells.model.rowCount() == 2
     assert window.cells.chart.bars == []
+
+
+def test_sheet_picker_opens_another_sheet(qtbot, window, tmp_path):
+    from openpyxl import Workbook
+
+    wb = Workbook()
+    a = wb.active
+    a.title = "Members"
+    a.append(["Member no", "Joined"])
+    a.append(["R1", "2026-10-03"])
+    b = wb.create_sheet("Boats")
+    b.append(["Boat", "Bought", "Serviced"])
+    b.append(["Kestrel", "2019-04-01", "2026-09-30"])
+    hidden = wb.create_sheet("Old")
+    hidden.sheet_state = "hidden"
+    path = tmp_path / "club.xlsx"
+    wb.save(path)
+    with qtbot.waitSignal(window.document_ready, timeout=20_000):
+        window.open_file(path)
+    picker = window.columns.sheet
+    assert picker.isVisible()
+    assert [picker.itemText(i) for i in range(picker.count())] == ["Members", "Boats"]
+    with qtbot.waitSignal(window.document_ready, timeout=20_000):
+        picker.setCurrentIndex(1)
+        picker.activated.emit(1)
+    assert window.session.raw.facts.sheet == "Boats"
+    assert window.session.raw.names == ["Boat", "Bought", "Serviced"]
+    assert picker.currentText() == "Boats"

@@ -289,3 +289,40 @@ def test_big_csv_source_round_trip(tmp_path):
     want = [(dt.date(1970, 1, 1) + dt.timedelta(days=int(d))).isoformat() for d in days]
     assert t["Raced"].to_pylist() == want  # Python's date arithmetic as the reference
     assert t["Crew"].to_pylist() == df["Crew"].tolist()
+
+
+def _with_derived(table: CleanTable) -> CleanTable:
+    from datemend.core.clean import DerivedColumn
+
+    n = table.raw.n_rows
+    age = pd.Series(pd.array([41, None] + [7] * (n - 2), dtype="Int64"))
+    due = pd.Series(pd.to_datetime(["2030-06-30", None] + ["2031-01-01"] * (n - 2)).as_unit("us"))
+    at = pd.Series(pd.to_datetime(["2030-06-30 08:15", None] + [None] * (n - 2)).as_unit("us"))
+    label = pd.Series(["=odd", None] + ["q1"] * (n - 2), dtype="string")
+    return table.evolve(
+        derived={
+            "Age": DerivedColumn("Age", age),
+            "Due": DerivedColumn("Due", due),
+            "At": DerivedColumn("At", at),
+            "Label": DerivedColumn("Label", label),
+        }
+    )
+
+
+def test_derived_columns_in_csv_and_parquet(club, tmp_path):
+    _, table = club
+    table = _with_derived(table)
+    export_table(table, tmp_path / "d.csv")
+    export_table(table, tmp_path / "d.parquet")
+    t = _read_csv_strings(tmp_path / "d.csv")
+    assert t.schema.names[-4:] == ["Age", "Due", "At", "Label"]
+    assert t["Age"].to_pylist()[:3] == ["41", "", "7"]
+    assert t["Due"].to_pylist()[:3] == ["2030-06-30", "", "2031-01-01"]  # midnight only: dates
+    assert t["At"].to_pylist()[:2] == [dt.datetime(2030, 6, 30, 8, 15).isoformat(), ""]
+    assert t["Label"].to_pylist()[:2] == ["=odd", ""]
+    p = pq.read_table(tmp_path / "d.parquet")
+    assert p.schema.field("Age").type == pa.int64()
+    assert p.schema.field("Due").type == pa.timestamp("us")
+    assert p.schema.field("Label").type == pa.string()
+    assert p["Age"].to_pylist()[:2] == [41, None]
+    assert p["Due"].to_pylist()[0] == dt.datetime(2030, 6, 30)

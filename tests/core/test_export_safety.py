@@ -318,3 +318,48 @@ def test_control_characters_are_replaced_and_counted(tmp_path):
     csv_out = tmp_path / "nul.csv"
     export_table(_text_table(["a\x00b", "ok", "x", "y", "z", "w"]), csv_out)
     assert csv_out.read_text(encoding="utf-8").splitlines()[1].startswith("a\x00b")
+
+
+def _add_macros(path, blob: bytes) -> None:
+    """Make a macro-enabled package as a spreadsheet program writes one: a vbaProject part, its
+    relationship and content types (ECMA-376 Part 2 packaging; the part's bytes are opaque)."""
+    import zipfile
+
+    wb_type = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet.main+xml"
+    with zipfile.ZipFile(path) as z:
+        items = [(i, z.read(i.filename)) for i in z.infolist()]
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as z:
+        for info, data in items:
+            text = data.decode() if info.filename.endswith((".xml", ".rels")) else None
+            if info.filename == "[Content_Types].xml":
+                text = text.replace(wb_type, "application/vnd.ms-excel.sheet.macroEnabled.main+xml")
+                text = text.replace(
+                    "<Default Extension=",
+                    '<Default Extension="bin" ContentType="application/vnd.ms-office.vbaProject"/>'
+                    "<Default Extension=",
+                    1,
+                )
+            if info.filename == "xl/_rels/workbook.xml.rels":
+                text = text.replace(
+                    "</Relationships>",
+                    '<Relationship Id="rIdVBA" Type="http://schemas.microsoft.com/office/2006/'
+                    'relationships/vbaProject" Target="vbaProject.bin"/></Relationships>',
+                )
+            z.writestr(info, data if text is None else text.encode())
+        z.writestr("xl/vbaProject.bin", blob)
+
+
+def test_xlsm_to_xlsm_keeps_the_macro_part(tmp_path):
+    import zipfile
+
+    src = build_book(tmp_path / "club.xlsm")
+    blob = b"\xd0\xcf\x11\xe0 opaque macro storage"
+    _add_macros(src, blob)
+    out = tmp_path / "out.xlsm"
+    result = export_table(clean_table(src), out)
+    with zipfile.ZipFile(out) as z:
+        assert z.read("xl/vbaProject.bin") == blob
+        assert "macroEnabled.main+xml" in z.read("[Content_Types].xml").decode()
+    assert not any("Macros" in n for n in result.notes)
+    ws = openpyxl.load_workbook(out, keep_vba=True)["Members"]
+    assert ws.cell(HEADER_ROW + 1, 2).is_date

@@ -274,7 +274,10 @@ def write_parquet(
 
 def _arrow(col: FlatColumn, options: ExportOptions, notes: list[str]) -> pa.Array:
     if col.series is not None:
-        return pa.Array.from_pandas(col.series)
+        arr = pa.Array.from_pandas(col.series)
+        if isinstance(arr, pa.ChunkedArray):
+            arr = arr.combine_chunks()
+        return arr.cast(pa.string()) if pa.types.is_large_string(arr.type) else arr
     assert col.values is not None and col.kinds is not None
     if col.dates is None:
         return _raw_arrow(col, notes)

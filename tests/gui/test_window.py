@@ -516,3 +516,42 @@ def test_sheet_picker_opens_another_sheet(qtbot, window, tmp_path):
     assert window.session.raw.facts.sheet == "Boats"
     assert window.session.raw.names == ["Boat", "Bought", "Serviced"]
     assert picker.currentText() == "Boats"
+
+
+def test_explicit_choices_are_laid_over_the_reading(qtbot, window, small_csv):
+    s = adopt(window, small_csv)
+    window.columns.choose("Joined")
+    r = window.readings
+    r.day_order.setCurrentIndex(r.day_order.findData("mdy"))
+    click_first_reading(qtbot, window)
+    step = s.log.entries[-1].step
+    assert step.spec.day_order == "mdy"
+    # Month first, by hand: 03/10/2019 is 10 March 2019; 14/02/2021 has no month 14.
+    shown = reads_as(window)
+    assert shown["R001"] == ("2019-03-10", "✓ read")
+    assert shown["R002"][1] == "✗ not read"
+
+
+def test_unknown_zone_is_one_sentence_and_records_nothing(qtbot, window, small_csv):
+    s = adopt(window, small_csv)
+    window.columns.choose("Joined")
+    window.readings.zone.setText("Mars/Olympus")
+    qtbot.mouseClick(window.readings.cards[0].use, Qt.MouseButton.LeftButton)
+    assert len(s.log.entries) == 0
+    assert "Mars/Olympus" in window.last_message.text()
+
+
+def test_go_to_actions_move_the_keyboard_focus(qtbot, window, small_csv):
+    adopt(window, small_csv)
+    window.columns.choose("Joined")
+    window.activateWindow()
+    targets = [
+        window.columns.list,
+        window.cells.table,
+        window.cells.chart,
+        window.readings.cards[0].use,
+        window.fixlog.list,
+    ]
+    for action, target in zip(window.go_actions, targets):
+        action.trigger()
+        assert target.hasFocus(), action.text()

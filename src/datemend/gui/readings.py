@@ -7,12 +7,14 @@ values are laid over the chosen suggestion's spec when the user presses "Use thi
 Signals:
     use_requested(object, str): a ParseSpec to record as the column's reading, and its label.
     blank_requested(object): a tuple of tokens to record as "treat as blank".
+    problem(str): a choice cannot be used (one sentence, e.g. an unknown zone name).
 """
 
 from __future__ import annotations
 
 import dataclasses
 import html
+from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtGui import QResizeEvent
@@ -94,6 +96,18 @@ def suggestion_html(rank: int, s: Suggestion) -> str:
     return "".join(out)
 
 
+def _check_zone(zone: str) -> None:
+    """Raise ValueError (one sentence) unless ``zone`` is "UTC" or an IANA zone name."""
+    if zone.upper() == "UTC":
+        return
+    try:
+        ZoneInfo(zone)
+    except (ZoneInfoNotFoundError, ValueError):
+        raise ValueError(
+            f'"{zone}" is not a time zone name; write UTC or an IANA name such as Europe/Paris.'
+        ) from None
+
+
 class _Card(QFrame):
     def __init__(self, rank: int, s: Suggestion, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -125,6 +139,7 @@ class ReadingsPanel(QWidget):
 
     use_requested = Signal(object, str)
     blank_requested = Signal(object)
+    problem = Signal(str)
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -228,11 +243,21 @@ class ReadingsPanel(QWidget):
             changes["date_system"] = v
         zone = self.zone.text().strip()
         if zone:
+            _check_zone(zone)
             changes["zone"] = zone
         return dataclasses.replace(s.spec, **changes) if changes else s.spec
 
     def _use(self, s: Suggestion) -> None:
-        self.use_requested.emit(self.spec_for(s), s.label)
+        try:
+            spec = self.spec_for(s)
+        except ValueError as err:
+            self.problem.emit(str(err))
+            return
+        self.use_requested.emit(spec, s.label)
+
+    def focus_first(self) -> None:
+        """Keyboard entry to the panel: the first "Use this reading" button, else the choices."""
+        (self.cards[0].use if self.cards else self.day_order).setFocus()
 
     def _blank(self) -> None:
         if self.report is not None and self.report.placeholders:

@@ -102,6 +102,7 @@ class MainWindow(QMainWindow, FileAsker):
         self.columns.sheet_chosen.connect(lambda s: self.open_file(self.path, sheet=s))
         self.readings.use_requested.connect(self._use_reading)
         self.readings.blank_requested.connect(self._blank_tokens)
+        self.readings.problem.connect(self.show_error)
         self.cells.hand_set_requested.connect(self._hand_set)
         self.fixlog.toggle_requested.connect(self._toggle_step)
         self.fixlog.remove_requested.connect(lambda i: self._edit(lambda s: s.remove_step(i)))
@@ -167,11 +168,11 @@ class MainWindow(QMainWindow, FileAsker):
             ("&Columns", self.columns.list),
             ("C&ells", self.cells.table),
             ("&Date spread", self.cells.chart),
-            ("&Readings", self.readings),
+            ("&Readings", _Focus(self.readings.focus_first)),
             ("&Fix log", self.fixlog.list),
         ]
         self.go_actions = [
-            self._act(f"Go to {name}", lambda w=w: w.setFocus(), f"Alt+{i}")
+            self._act(f"Go to {name}", w.setFocus, f"Alt+{i}")
             for i, (name, w) in enumerate(panes, start=1)
         ]
         self.act_stop = self._act("&Stop the running work", self.stop_jobs)
@@ -668,6 +669,13 @@ class MainWindow(QMainWindow, FileAsker):
         for job in list(self.jobs):
             job.wait()
         super().closeEvent(event)
+
+
+class _Focus:
+    """Something that takes the keyboard focus through a function (for the Go to actions)."""
+
+    def __init__(self, fn: Any) -> None:
+        self.setFocus = fn
 
 
 def _derived_as_raw(name: str, values: Any) -> RawColumn:

@@ -212,6 +212,16 @@ def test_deep_nesting_is_refused(depth):
         FixLog.loads(text, "deep.json")
 
 
+def test_too_many_steps_are_refused():
+    from datemend.core.fixlog import MAX_STEPS
+
+    d = _data()
+    d["steps"] = [{"step": {"kind": "date-part", "column": "Born"}}] * (MAX_STEPS + 1)
+    with pytest.raises(FixLogError, match=r"holds 20,001 steps, more than the 20,000") as err:
+        FixLog.loads(json.dumps(d), "many.json")
+    assert err.value.field == "steps"
+
+
 def test_brackets_inside_text_are_not_nesting():
     d = _data()
     d["notes"] = ["[" * 1000 + '\\" {{{' + "]" * 3]

@@ -57,6 +57,7 @@ __all__ = [
     "FORMAT",
     "MAX_BYTES",
     "MAX_DEPTH",
+    "MAX_STEPS",
     "VERSION",
     "FixLog",
     "FixLogError",
@@ -81,6 +82,9 @@ VERSION = 1
 MAX_BYTES = 5 * 1024 * 1024
 #: Deepest nesting of JSON arrays and objects read; real logs nest about 5 deep.
 MAX_DEPTH = 64
+#: Most steps a log may hold (each is checked against its schema: this bounds the time a
+#: hostile file can cost). Ten thousand hand-set cells is already far beyond real use.
+MAX_STEPS = 20_000
 
 
 class FixLogError(DatemendError):
@@ -561,10 +565,51 @@ def _explain(err: jsonschema.ValidationError) -> tuple[str, str]:
     return path, err.message
 
 
-def _first_error(schema: dict[str, Any], data: Any) -> jsonschema.ValidationError | None:
-    validator = jsonschema.Draft202012Validator(schema)
+_validators: dict[object, jsonschema.protocols.Validator] = {}
+
+
+def _validator(key: object, schema: Any) -> jsonschema.protocols.Validator:
+    """One compiled validator per step class (or envelope), built on first use."""
+    v = _validators.get(key)
+    if v is None:
+        v = jsonschema.Draft202012Validator(schema() if callable(schema) else schema)
+        _validators[key] = v
+    return v
+
+
+def _first_error(
+    validator: jsonschema.protocols.Validator, data: Any
+) -> jsonschema.ValidationError | None:
+    if validator.is_valid(data):
+        return None
     errors = sorted(validator.iter_errors(data), key=lambda e: (list(e.absolute_path), e.message))
     return errors[0] if errors else None
+
+
+def _check_entries(steps: list[Any], name: str) -> None:
+    """Each entry is {"step": {"kind": …, …}, "enabled": true/false}: checked in plain Python, so
+    a long log of hand-set cells is not walked by the schema library twice."""
+    for i, item in enumerate(steps, start=1):
+        problem = None
+        if not isinstance(item, dict):
+            field_name, problem = "step", f"must be an object, not {_describe(item)}"
+        elif "step" not in item:
+            field_name, problem = "step", "is missing"
+        elif extra := sorted(k for k in item if k not in ("step", "enabled")):
+            field_name, problem = extra[0], "is not a field this kind of entry has"
+        elif "enabled" in item and not isinstance(item["enabled"], bool):
+            field_name, problem = (
+                "enabled",
+                f"must be true or false, not {_describe(item['enabled'])}",
+            )
+        elif not isinstance(item["step"], dict):
+            field_name, problem = "step", f"must be an object, not {_describe(item['step'])}"
+        elif "kind" not in item["step"]:
+            field_name, problem = "kind", "is missing"
+        if problem is not None:
+            raise FixLogError(
+                f'{name}: step {i}, field "{field_name}" {problem}.', name, i, field_name
+            )
 
 
 def _check_envelope(d: Any, name: str) -> None:
@@ -588,20 +633,24 @@ def _check_envelope(d: Any, name: str) -> None:
             name,
             field="version",
         )
-    step_shell = {"type": "object", "required": ["kind"], "properties": {"kind": {}}}
-    err = _first_error(_envelope_schema(step_shell), d)
-    if err is None:
-        return
-    path, what = _explain(err)
-    parts = path.split(".")
-    if len(parts) >= 2 and parts[0] == "steps" and parts[1].isdigit():
-        number = int(parts[1]) + 1
-        rest = ".".join(parts[3:]) if len(parts) > 3 else ".".join(parts[2:])
-        field_name = rest or "step"
+    err = _first_error(_validator("envelope", _envelope_without_steps), d)
+    if err is not None:
+        path, what = _explain(err)
+        raise FixLogError(f'{name}: field "{path}" {what}.', name, field=path)
+    if len(d["steps"]) > MAX_STEPS:
         raise FixLogError(
-            f'{name}: step {number}, field "{field_name}" {what}.', name, number, field_name
+            f"{name} holds {len(d['steps']):,} steps, more than the {MAX_STEPS:,} a fix log may "
+            "hold; it was not read.",
+            name,
+            field="steps",
         )
-    raise FixLogError(f'{name}: field "{path}" {what}.', name, field=path)
+    _check_entries(d["steps"], name)
+
+
+def _envelope_without_steps() -> dict[str, Any]:
+    sch = _envelope_schema({})
+    sch["properties"]["steps"] = {"type": "array"}
+    return sch
 
 
 def _build_step(d: dict[str, Any], number: int, name: str) -> Step:
@@ -616,7 +665,7 @@ def _build_step(d: dict[str, Any], number: int, name: str) -> Step:
             "kind",
         )
     cls = STEP_TYPES[kind]
-    err = _first_error(cls.schema(), d)
+    err = _first_error(_validator(cls, cls.schema), d)
     if err is not None:
         path, what = _explain(err)
         raise FixLogError(

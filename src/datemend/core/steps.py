@@ -170,8 +170,15 @@ def _schema_of(hint: Any) -> dict[str, Any]:
     raise TypeError(f"no JSON Schema for type {hint!r}")
 
 
+_HINTS: dict[type, dict[str, Any]] = {}
+
+
 def _hints(cls: type) -> dict[str, Any]:
-    return typing.get_type_hints(cls)
+    """The resolved type hints of a dataclass (resolved once per class: it is slow)."""
+    hints = _HINTS.get(cls)
+    if hints is None:
+        hints = _HINTS[cls] = typing.get_type_hints(cls)
+    return hints
 
 
 def dataclass_schema(

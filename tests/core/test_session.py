@@ -330,3 +330,29 @@ def test_rename_log_columns_is_one_undo_step():
     assert any("is not in the file" in w for w in s.clean.warnings)
     s.undo()
     assert s.log is before
+
+
+SAMPLES = __import__("pathlib").Path(__file__).resolve().parents[2] / "sample_files"
+
+
+@pytest.mark.skipif(
+    not (SAMPLES / "rowing_club_2026-11.xlsx").exists(), reason="sample files not generated"
+)
+def test_a_month_in_the_window_s_words(tmp_path):
+    """Open October, accept readings, fix a cell by hand, save the log; open November, replay."""
+    s = Session.open(SAMPLES / "rowing_club_2026-10.xlsx", today=TODAY, prefer_day_order="dmy")
+    assert s.log.key_column == "Member no"  # unique, never empty, reads like an identifier
+    for rep in s.scan_all():
+        if rep.is_date and rep.best is not None:
+            s.use_suggestion(rep.column, rep.best)
+    born = s.clean.parsed["Born"]
+    row = int(np.flatnonzero(born.state == CellState.PARSED)[0])
+    s.set_cell("Born", row, "1961-01-01")
+    saved = s.save_log(tmp_path / "october.json")
+    assert saved.source is not None and saved.source.file_name == "rowing_club_2026-10.xlsx"
+    nov = Session.open(SAMPLES / "rowing_club_2026-11.xlsx", today=TODAY)
+    report = nov.replay(tmp_path / "october.json")
+    assert report.has_drift and report.moved == ("Safety course",)
+    nov.accept_replay(report)
+    assert nov.clean is report.table
+    assert nov.undo_label == "Replay a fix log"

@@ -363,7 +363,7 @@ class DeriveDialog(QDialog):
         for r in range(len(frame)):
             for c in range(len(frame.columns)):
                 v = frame.iat[r, c]
-                self.table.setItem(r, c, QTableWidgetItem("" if _is_na(v) else str(v)))
+                self.table.setItem(r, c, QTableWidgetItem(_cell_text(v)))
         return True
 
     def _ok(self) -> None:
@@ -381,6 +381,17 @@ def _text_of(v: Any) -> str:
         return ", ".join(str(x) for x in v)
     if dataclasses.is_dataclass(v):
         return str(v)
+    return str(v)
+
+
+def _cell_text(v: Any) -> str:
+    """A preview cell: empty for NA, ISO 8601 for dates (the date alone at midnight)."""
+    if _is_na(v):
+        return ""
+    if hasattr(v, "isoformat"):
+        if hasattr(v, "hour") and (v.hour, v.minute, v.second, v.microsecond) == (0, 0, 0, 0):
+            return v.date().isoformat() if hasattr(v, "date") else v.isoformat()
+        return v.isoformat()
     return str(v)
 
 

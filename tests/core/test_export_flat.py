@@ -250,6 +250,7 @@ def test_streaming_workbook_round_trip(club, tmp_path):
         table, out, options=ExportOptions(streaming=True, keep_raw=True, unresolved_sheet=True)
     )
     assert result.writer == "streaming"
+    assert any("not copied by the streaming writer" in n for n in result.notes)
     wb = openpyxl.load_workbook(out)
     assert wb.sheetnames == ["Members", "Unresolved cells"]
     ws = wb["Members"]

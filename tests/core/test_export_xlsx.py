@@ -309,3 +309,26 @@ def test_date_before_the_date_system_is_text(tmp_path):
     cell = openpyxl.load_workbook(out)["Members"].cell(HEADER_ROW + 1, JOINED_COL)
     assert (cell.value, cell.data_type) == ("1899-12-31", "s")
     assert any("before" in n for n in result.notes)
+
+
+def test_parts_the_writer_cannot_carry_are_named(tmp_path):
+    """A part openpyxl does not load (here a slicer, ECMA-376 extension part) is reported, not
+    silently dropped; an ordinary workbook gets no such note."""
+    import zipfile
+
+    src = build_book(tmp_path / "club.xlsx")
+    plain = export_table(clean_table(src), tmp_path / "plain.xlsx")
+    assert not any("carried over" in n for n in plain.notes)
+    with zipfile.ZipFile(src, "a") as z:
+        z.writestr("xl/slicers/slicer1.xml", "<slicers/>")
+    table = clean_table(src)  # the file changed, so read it again
+    result = export_table(table, tmp_path / "out.xlsx")
+    assert "These parts of the source could not be carried over: slicers." in result.notes
+
+
+def test_tsv_target_uses_tabs(tmp_path):
+    src = build_book(tmp_path / "club.xlsx")
+    out = tmp_path / "club.tsv"
+    export_table(clean_table(src), out)
+    head = out.read_text(encoding="utf-8").splitlines()[0]
+    assert head.split("\t")[:3] == ["Member", "Joined on", "Fee"]

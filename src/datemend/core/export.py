@@ -20,6 +20,7 @@ The source path is refused as a target.
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import errno
 import hashlib
 import os
@@ -237,6 +238,8 @@ def export_table(
     progress = progress or Progress()
     target = Path(target)
     fmt = target_format(target, options)
+    if fmt == "csv" and target.suffix.lower() == ".tsv" and options.delimiter == ",":
+        options = dataclasses.replace(options, delimiter="\t")
     _check_options(options, target)
     _check_target(clean, target, overwrite)
     facts = clean.raw.facts
@@ -282,6 +285,11 @@ def export_table(
     rows, cols, dates, unresolved, notes = atomic_write(target, write)
     if writer == "workbook" and facts.format == "xlsm" and not keep_vba:
         notes.append("Macros were not copied: an XLSX file cannot hold them (use .xlsm).")
+    if writer == "streaming" and workbook_source:
+        notes.append(
+            "Only the table was written, on a new sheet: the source's other sheets, formulas "
+            "and formats are not copied by the streaming writer."
+        )
     return ExportResult(target, fmt, writer, rows, cols, dates, unresolved, tuple(notes))
 
 

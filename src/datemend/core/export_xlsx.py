@@ -8,6 +8,7 @@ formulas in the source are never touched, so they stay formulas.
 from __future__ import annotations
 
 import datetime as _dt
+import re
 from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
@@ -197,6 +198,7 @@ def write_workbook(
     wb.calculation.fullCalcOnLoad = True
     progress.report(total, total, "Saving the workbook")
     wb.save(tmp)
+    notes += _parts_left_out(Path(facts.path), tmp)
     if formulas:
         notes.append(f"{formulas} formula cells in fixed columns were left as formulas.")
     if early:
@@ -209,6 +211,53 @@ def write_workbook(
     notes += fix.note()
     n_cols = len(raw.columns) + len(clean.derived) + (len(clean.parsed) if options.keep_raw else 0)
     return raw.n_rows, n_cols, dates, unresolved, notes
+
+
+# Package folders a spreadsheet may hold that the openpyxl writer might not carry over.
+_PART_WORDS = {
+    "xl/charts": "charts",
+    "xl/chartsheets": "chart sheets",
+    "xl/media": "images",
+    "xl/drawings": "drawings or shapes",
+    "xl/pivotTables": "pivot tables",
+    "xl/pivotCache": "pivot caches",
+    "xl/slicers": "slicers",
+    "xl/slicerCaches": "slicer caches",
+    "xl/timelines": "timelines",
+    "xl/threadedComments": "threaded comments",
+    "xl/persons": "comment authors",
+    "xl/ctrlProps": "form controls",
+    "xl/activeX": "ActiveX controls",
+    "xl/embeddings": "embedded objects",
+    "xl/externalLinks": "links to other workbooks",
+    "xl/queryTables": "data queries",
+    "xl/connections.xml": "data connections",
+    "customXml": "custom XML data",
+}
+
+
+def _parts_left_out(source: Path, written: Path) -> list[str]:
+    """Say which kinds of package parts the source had and the output lacks: openpyxl keeps
+    cells, formats, widths, merges, comments, tables and validations, but not everything."""
+    import zipfile
+
+    try:
+        with zipfile.ZipFile(source) as z:
+            before = z.namelist()
+        with zipfile.ZipFile(written) as z:
+            after = z.namelist()
+    except (OSError, zipfile.BadZipFile):
+        return []
+
+    def holds(names: list[str], prefix: str) -> bool:
+        if prefix == "xl/drawings":  # comment boxes (.vml) are rewritten; shapes are .xml
+            return any(re.fullmatch(r"xl/drawings/drawing\d+\.xml", n) for n in names)
+        return any(n == prefix or n.startswith(prefix + "/") for n in names)
+
+    lost = [w for p, w in _PART_WORDS.items() if holds(before, p) and not holds(after, p)]
+    if not lost:
+        return []
+    return [f"These parts of the source could not be carried over: {', '.join(lost)}."]
 
 
 def _locate_columns(

@@ -555,3 +555,37 @@ def test_go_to_actions_move_the_keyboard_focus(qtbot, window, small_csv):
     for action, target in zip(window.go_actions, targets):
         action.trigger()
         assert target.hasFocus(), action.text()
+
+
+def test_save_and_load_the_fix_log(qtbot, window, small_csv, tmp_path, monkeypatch):
+    s = adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    path = tmp_path / "log.json"
+    monkeypatch.setattr(window, "ask_save_log_path", lambda suggested: str(path))
+    window.act_save_log.trigger()
+    saved = json.loads(path.read_text(encoding="utf-8"))
+    assert [e["step"]["column"] for e in saved["steps"]] == ["Joined"]
+    with qtbot.waitSignal(window.table_refreshed):
+        window.act_undo.trigger()
+    assert len(s.log.entries) == 0
+    monkeypatch.setattr(window, "ask_log_path", lambda: str(path))
+    with qtbot.waitSignal(window.table_refreshed):
+        window.act_load_log.trigger()
+    assert [e.step.column for e in s.log.entries] == ["Joined"]
+    assert reads_as(window)["R001"] == ("2019-10-03", "✓ read")
+    bad = tmp_path / "bad.json"
+    bad.write_text('{"format": "not a fix log"', encoding="utf-8")
+    monkeypatch.setattr(window, "ask_log_path", lambda: str(bad))
+    window.act_load_log.trigger()
+    assert "bad.json" in window.last_message.text()
+    assert len(s.log.entries) == 1
+
+
+def test_open_recent_reopens_a_file(qtbot, window, small_csv):
+    window.settings.setValue("recent", [str(small_csv)])
+    window._fill_recent()
+    (action,) = window.recent_menu.actions()
+    with qtbot.waitSignal(window.document_ready, timeout=20_000):
+        action.trigger()
+    assert window.path == small_csv

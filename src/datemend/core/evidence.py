@@ -9,7 +9,7 @@ of placeholder tokens.
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import pandas as pd
@@ -18,14 +18,23 @@ import pyarrow.compute as pc
 
 from .clean import NAIVE, CellState
 from .fields import EV_BOTH_SMALL, EV_DMY, EV_MDY, Reading, features, read_pattern
-from .names import LANGUAGES
+from .names import LANGUAGES, month_languages
 from .parse import DATE_CELL, _apply_zone, distinct_texts, iso_text, normalise, parse_texts
 from .patterns import PATTERNS, label, mix_label, pattern
 from .report import CellNote, Suggestion
 from .spec import ParseSpec
 from .table import CellKind, RawColumn, SourceFacts
 
-__all__ = ["Census", "build_suggestion", "census_of", "disagreements", "likeness_of"]
+__all__ = [
+    "Census",
+    "build_suggestion",
+    "census_of",
+    "disagreements",
+    "full_view",
+    "likeness_of",
+    "parse_sample",
+    "unread_patterns",
+]
 
 #: Numbers that compete for digit-only values, in the order ties are broken.
 DIGIT_PATTERNS = (
@@ -135,7 +144,8 @@ class Census:
     n_rows: int
     empty: int
     texts: np.ndarray  # sampled distinct texts (object)
-    weights: np.ndarray  # cells holding each
+    weights: np.ndarray  # cells each stands for (float: scaled up when the values are sampled)
+    cells: np.ndarray  # cells holding each (exact)
     rows: np.ndarray  # first row position of each
     norm: pa.Array
     digit: np.ndarray  # bool: digits only (a number)
@@ -158,6 +168,7 @@ class Census:
     rivals: list[str] = field(default_factory=list)
     sample_note: str | None = None
     parsed_cache: dict = field(default_factory=dict)
+    feats: dict | None = None
 
 
 def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
@@ -169,6 +180,7 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     first = np.full(len(uniques), -1, dtype=np.int64)
     first[codes[::-1]] = np.arange(len(codes))[::-1]
     sel = np.arange(len(uniques))
+    scale = np.ones(len(uniques))
     note = None
     if len(uniques) > sample:
         # Deterministic: the most frequent half, and the rest spread evenly over the file order.
@@ -178,6 +190,9 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
         rest = np.flatnonzero(keep)
         spread = rest[np.linspace(0, len(rest) - 1, sample - len(by_weight)).astype(np.int64)]
         sel = np.sort(np.concatenate([by_weight, spread]))
+        # The most frequent values count as themselves; the spread ones stand for all the rest.
+        scale = np.ones(len(uniques))
+        scale[spread] = weights[rest].sum() / max(weights[spread].sum(), 1)
         note = (
             f"estimated from a sample of {len(sel):,} of {len(uniques):,} distinct values "
             f"({int(weights[sel].sum()):,} of {len(rows_t):,} cells)"
@@ -201,7 +216,8 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
         n_rows=len(column),
         empty=int((kinds == CellKind.EMPTY).sum()),
         texts=texts[sel],
-        weights=weights[sel],
+        weights=weights[sel] * scale[sel],
+        cells=weights[sel],
         rows=rows_t[first[sel]] if len(rows_t) else first[sel],
         norm=norm,
         digit=digit,
@@ -213,34 +229,84 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
         readings=readings,
         sample_note=note,
     )
+    c.feats = feats
     c.locales = _languages(c)
     return c
 
 
+def full_view(c: Census, column: RawColumn) -> Census:
+    """The census over every distinct value (no readings): for exact counts of one spec."""
+    if c.sample_note is None:
+        return c
+    rows_t, codes, texts = distinct_texts(column)
+    cells = np.bincount(codes, minlength=len(texts)).astype(np.int64)
+    first = np.full(len(texts), -1, dtype=np.int64)
+    first[codes[::-1]] = np.arange(len(codes))[::-1]
+    norm = normalise(pa.array(texts, type=pa.string()))
+    feats = features(norm)
+    tokens = pa.array(list(c.blank_tokens), pa.string())
+    folded = pc.utf8_trim_whitespace(pc.utf8_lower(pa.array(texts, type=pa.string())))
+    placeholder = pc.is_in(folded, value_set=tokens).to_numpy(zero_copy_only=False)
+    return replace(
+        c,
+        texts=texts,
+        weights=cells.astype(np.float64),
+        cells=cells,
+        rows=rows_t[first],
+        norm=norm,
+        digit=feats["digits"],
+        feats=feats,
+        placeholder=placeholder,
+        parsed_cache={},
+        sample_note=None,
+        readings={},
+    )
+
+
+def unread_patterns(c: Census, full: Census, spec: ParseSpec) -> list[str]:
+    """Text patterns that read values outside the sample which ``spec`` reads with none."""
+    res = parse_sample(full, spec)
+    lost = (res.state == CellState.FAILED) & (res.pattern < 0)
+    if not lost.any():
+        return []
+    idx = np.flatnonzero(lost)
+    sub = full.norm.take(pa.array(idx))
+    feats = {f: v[idx] for f, v in full.feats.items()}
+    wide = ParseSpec(patterns=TEXT_PATTERNS, date_system=spec.date_system, locales=tuple(LANGUAGES))
+    return [
+        p
+        for p in TEXT_PATTERNS
+        if p not in spec.patterns
+        and read_pattern(pattern(p), sub, wide, feats, explain=False).ok.any()
+    ]
+
+
 def _languages(c: Census) -> tuple[str, ...]:
-    names = ("name-dmy", "name-mdy", "name-ymd")
+    """The fewest languages whose CLDR month names cover the month words of the column."""
     rows = np.zeros(len(c.texts), dtype=bool)
-    for p in names:
+    for p in ("name-dmy", "name-mdy", "name-ymd"):
         rows |= c.readings[p].ok
     if not rows.any():
         return ("en",)
-    sub = c.norm.filter(pa.array(rows))
+    words = pc.split_pattern_regex(c.norm.filter(pa.array(rows)), r"[^\pL]+")
     w = c.weights[rows]
-    covered = {}
-    for lang in LANGUAGES:
-        spec = ParseSpec(patterns=names, locales=(lang,))
-        hit = np.zeros(len(sub), dtype=bool)
-        for p in names:
-            hit |= read_pattern(pattern(p), sub, spec, explain=False).ok
-        covered[lang] = hit
+    where = month_languages()
+    seen: list[set[str]] = []
+    for ws in words.to_pylist():  # per distinct text with a month name (few)
+        langs: set[str] = set()
+        for word in ws:
+            if word in where:
+                langs |= set(where[word])
+        seen.append(langs)
     chosen: list[str] = []
-    left = np.ones(len(sub), dtype=bool)
+    left = np.array([bool(s) for s in seen])
     while left.any():
-        lang = max(LANGUAGES, key=lambda g: int(w[covered[g] & left].sum()))
-        if not (covered[lang] & left).any():
+        cover = {g: np.array([g in s for s in seen]) for g in LANGUAGES}
+        lang = max(LANGUAGES, key=lambda g: float(w[cover[g] & left].sum()))
+        if not (cover[lang] & left).any():
             break
         chosen.append(lang)
-        left &= ~covered[lang]
+        left &= ~cover[lang]
     return tuple(chosen) or ("en",)
 
 
@@ -253,13 +319,20 @@ def placeholders_of(c: Census) -> list[tuple[str, int]]:
     known = np.isin(norm, list(PLACEHOLDERS))
     has_digit = pc.match_substring_regex(c.norm, r"\d").to_numpy(zero_copy_only=False)
     length = pc.utf8_length(c.norm).to_numpy(zero_copy_only=False)
-    recurring = ~has_digit & (c.weights >= 2) & (length <= 24) & (length > 0)
+    recurring = ~has_digit & (c.cells >= 2) & (length <= 24)
     mask = ~ok & (known | recurring)
     c.placeholder = mask
+    # The token is the text trimmed and case-folded, as ParseSpec.blank_tokens compares.
     counts: dict[str, int] = {}
-    for t, w in zip(norm[mask], c.weights[mask]):
-        counts[t] = counts.get(t, 0) + int(w)
+    for t, w in zip(c.texts[mask], c.weights[mask], strict=True):
+        key = str(t).strip().casefold()
+        if key:
+            counts[key] = counts.get(key, 0) + _n(w)
     return sorted(counts.items(), key=lambda kv: (-kv[1], kv[0]))
+
+
+def _n(x: float) -> int:
+    return round(float(x))
 
 
 def _live(c: Census) -> np.ndarray:
@@ -268,8 +341,13 @@ def _live(c: Census) -> np.ndarray:
 
 def _window(pid: str, ref_year: int) -> tuple[int, int]:
     # Plausible years for a number read as a date (common practice, no source). Serials start
-    # later so small counts and IDs (1–7305) are not taken for 1900s dates.
-    return (1920 if pid == "serial" else 1900, ref_year + 50)
+    # later so small counts and IDs (1–7305) are not taken for 1900s dates; epochs from 1975
+    # so eight-digit numbers (1970–1973 as seconds) are not taken for Unix time.
+    if pid == "serial":
+        return (1920, ref_year + 50)
+    if pid.startswith("epoch"):
+        return (1975, ref_year + 50)
+    return (1900, ref_year + 50)
 
 
 def choose_patterns(c: Census, ref_year: int) -> list[str]:
@@ -282,7 +360,7 @@ def choose_patterns(c: Census, ref_year: int) -> list[str]:
     chosen += [p for p in DIGIT_PATTERNS if (c.readings[p].matched & live & ~c.digit).any()]
     left = live & c.digit
     digits: list[str] = []
-    total = int(c.weights[left].sum())
+    total = _n(c.weights[left].sum())
 
     def plausible(p: str, rows: np.ndarray) -> np.ndarray:
         r = c.readings[p]
@@ -291,7 +369,7 @@ def choose_patterns(c: Census, ref_year: int) -> list[str]:
 
     while left.any() and len(digits) < 3:
         options = [p for p in DIGIT_PATTERNS if p not in digits and p not in chosen]
-        weights = {p: int(c.weights[plausible(p, left)].sum()) for p in options}
+        weights = {p: _n(c.weights[plausible(p, left)].sum()) for p in options}
         best = max(options, key=lambda p: weights[p], default=None)
         if best is None or weights[best] == 0 or (digits and weights[best] < 0.01 * total):
             break
@@ -310,7 +388,7 @@ def choose_patterns(c: Census, ref_year: int) -> list[str]:
                     c.digit_alternatives.append({best: q})
                     c.notes_evidence.append(
                         f"numbers read as {label(best, date_system=c.facts.date_system)}: "
-                        f"{int(c.weights[mine & ~theirs].sum())} values fit only that reading"
+                        f"{_n(c.weights[mine & ~theirs].sum())} values fit only that reading"
                         f" and not {label(q, date_system=c.facts.date_system)}"
                     )
                 else:
@@ -343,7 +421,7 @@ def decide_day_order(
         r = c.readings[p]
         seen = (r.ok | r.ambiguous) & live
         for code in n:
-            n[code] += int(c.weights[seen & (r.order == code)].sum())
+            n[code] += _n(c.weights[seen & (r.order == code)].sum())
     dmy, mdy, both = n[EV_DMY], n[EV_MDY], n[EV_BOTH_SMALL]
     c.order_ambiguous = both > 0
     fit = f"; {both} values fit either order and are read the same way" if both else ""
@@ -396,17 +474,28 @@ def decide_day_order(
     )
 
 
+def _effective(c: Census, patterns: list[str]) -> dict[str, np.ndarray]:
+    """For each pattern, the values it is the one to read (the first in order that reads it)."""
+    taken = ~_live(c)
+    out = {}
+    for p in patterns:
+        r = c.readings[p]
+        mine = (r.ok | r.ambiguous) & ~taken
+        out[p] = mine
+        taken = taken | mine
+    return out
+
+
 def decide_century(
     c: Census, patterns: list[str], name: str, ref_year: int
 ) -> tuple[str, int | None, list[str]]:
-    live = _live(c)
     two = 0
     future = 0
-    for p in patterns:
+    for p, mine in _effective(c, patterns).items():
         r = c.readings[p]
-        m = r.ok & live & r.two_digit
-        two += int(c.weights[m].sum())
-        future += int(c.weights[m & (r.year > ref_year)].sum())
+        m = mine & r.two_digit
+        two += _n(c.weights[m].sum())
+        future += _n(c.weights[m & (r.year > ref_year)].sum())
     c.two_digit_years = two > 0
     if not two:
         return "posix", None, ["default"]
@@ -444,13 +533,12 @@ def decide_century(
 
 
 def decide_zone(c: Census, patterns: list[str]) -> list[str]:
-    live = _live(c)
     aware = naive = 0
-    for p in patterns:
+    for p, m in _effective(c, patterns).items():
         r = c.readings[p]
-        m = r.ok & live
-        aware += int(c.weights[m & (r.offset != NAIVE)].sum())
-        naive += int(c.weights[m & (r.offset == NAIVE)].sum())
+        m = m & r.ok
+        aware += _n(c.weights[m & (r.offset != NAIVE)].sum())
+        naive += _n(c.weights[m & (r.offset == NAIVE)].sum())
     naive += c.dated
     c.aware = aware > 0
     if aware and naive:
@@ -461,7 +549,7 @@ def decide_zone(c: Census, patterns: list[str]) -> list[str]:
     return []
 
 
-def _parse_sample(c: Census, spec: ParseSpec):
+def parse_sample(c: Census, spec: ParseSpec):
     res = parse_texts(c.texts, spec)
     _apply_zone(res, spec)
     return res
@@ -475,21 +563,21 @@ def build_suggestion(
     evidence: list[str],
     warnings: list[str],
 ) -> Suggestion:
-    res = _parse_sample(c, spec)
+    res = parse_sample(c, spec)
     w = c.weights
     parsed_m = res.state == CellState.PARSED
-    parsed = int(w[parsed_m].sum()) + c.dated
-    failed = int(w[res.state == CellState.FAILED].sum()) + c.other_failed
-    amb = int(w[res.state == CellState.AMBIGUOUS].sum())
+    parsed = _n(w[parsed_m].sum()) + c.dated
+    failed = _n(w[res.state == CellState.FAILED].sum()) + c.other_failed
+    amb = _n(w[res.state == CellState.AMBIGUOUS].sum())
     total = parsed + failed + amb
     mix: list[tuple[str, str, int]] = []
     examples: list[tuple[str, str]] = []
     for k, pid in enumerate(spec.patterns):
         m = parsed_m & (res.pattern == k)
-        cnt = int(w[m].sum())
+        cnt = _n(w[m].sum())
         if not cnt:
             continue
-        two = int(w[m & res.two_digit].sum()) * 2 > cnt
+        two = _n(w[m & res.two_digit].sum()) * 2 > cnt
         lab = label(pid, day_order=spec.day_order, date_system=spec.date_system, two_digit_year=two)
         mix.append((pid, lab, cnt))
         j = np.flatnonzero(m)[:1]
@@ -513,7 +601,7 @@ def build_suggestion(
         ev.append("treated as blank: " + ", ".join(f'"{t}"' for t in c.blank_tokens))
     warn = list(warnings)
     for s in SENTINELS:
-        hits = int(w[parsed_m & (res.value == np.datetime64(s, "us"))].sum())
+        hits = _n(w[parsed_m & (res.value == np.datetime64(s, "us"))].sum())
         if hits:
             warn.append(
                 f"{hits} values are {s}, a date often written to mean 'no date'; kept as dates"
@@ -542,7 +630,7 @@ def _at(res, j: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
 def disagreements(c: Census, a: ParseSpec, b: ParseSpec) -> tuple[tuple[str, str, str], ...]:
     """Values the two readings turn into different dates (or one reads and the other not)."""
-    ra, rb = _parse_sample(c, a), _parse_sample(c, b)
+    ra, rb = parse_sample(c, a), parse_sample(c, b)
     pa_, pb_ = ra.state == CellState.PARSED, rb.state == CellState.PARSED
     va = np.where(pa_, ra.value, np.datetime64("NaT"))
     vb = np.where(pb_, rb.value, np.datetime64("NaT"))
@@ -560,10 +648,10 @@ def likeness_of(c: Census, best: Suggestion, name: str, ref_year: int) -> float:
     if not best.total:
         return 0.0
     cover = (best.parsed + best.ambiguous) / best.total
-    res = _parse_sample(c, best.spec)
+    res = parse_sample(c, best.spec)
     parsed = res.state == CellState.PARSED
     w = c.weights
-    num_w = int(w[parsed & c.digit].sum())
+    num_w = _n(w[parsed & c.digit].sum())
     share = num_w / (best.parsed or 1)
     if share < 0.05:
         return round(cover, 4)
@@ -574,7 +662,9 @@ def likeness_of(c: Census, best: Suggestion, name: str, ref_year: int) -> float:
     else:
         years = res.value[parsed & c.digit].astype("datetime64[Y]").astype(np.int64) + 1970
         pids = np.array((*best.spec.patterns, ""))[res.pattern[parsed & c.digit]]
-        lo = np.where(pids == "serial", 1920, 1900)
+        lo = np.where(
+            pids == "serial", 1920, np.where(np.char.startswith(pids, "epoch"), 1975, 1900)
+        )
         ok = (years >= lo) & (years <= ref_year + 50)
         ww = w[parsed & c.digit]
         plausible = float(ww[ok].sum() / ww.sum()) if ww.sum() else 0.0
@@ -586,7 +676,7 @@ def _id_like(c: Census) -> bool:
     """Distinct whole numbers filling a dense range: row numbers or member numbers
     (common practice, no source)."""
     m = c.digit & _live(c)
-    if m.sum() < 20 or (c.weights[m] > 1).any():
+    if m.sum() < 20 or (c.cells[m] > 1).any():
         return False
     vals = pd.to_numeric(pd.Series(c.texts[m]), errors="coerce").to_numpy()
     if np.isnan(vals).any() or (vals != np.round(vals)).any():

@@ -483,7 +483,9 @@ def _read_number(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
         frac = np.zeros(k, dtype=np.float64)
         if has_frac.any():
             frac[has_frac] = np.array(["0." + x for x in fstr[has_frac]], dtype=np.float64)
-        tod = np.rint(frac * US_PER_DAY).astype(np.int64)
+        # Spreadsheets keep times to the millisecond; a float fraction carries float noise
+        # below that (0.5732638889 day is 13:45:30.000001), so round to the millisecond.
+        tod = np.rint(frac * (US_PER_DAY // 1000)).astype(np.int64) * 1000
         if spec.date_system == 1904:
             base = days_from_civil(np.array([1904]), np.array([1]), np.array([1]))[0]
             days = base + i

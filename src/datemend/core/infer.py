@@ -31,10 +31,14 @@ from .evidence import (
     decide_century,
     decide_day_order,
     decide_zone,
+    full_view,
     likeness_of,
+    parse_sample,
     placeholders_of,
+    unread_patterns,
 )
-from .patterns import label
+from .parse import remember
+from .patterns import PATTERNS, label
 from .progress import Progress
 from .report import ColumnReport
 from .spec import ParseSpec
@@ -42,8 +46,9 @@ from .table import CellKind, RawColumn, RawTable, SourceFacts
 
 __all__ = ["SAMPLE", "scan", "scan_column"]
 
-#: Distinct values read by a scan per column (the rest are parsed only once a spec is chosen).
-SAMPLE = 20_000
+#: Distinct values the census reads per column to make its decisions. The chosen reading is
+#: then applied to every distinct value, so the best suggestion's counts are exact.
+SAMPLE = 8_000
 
 
 def scan_column(
@@ -101,17 +106,30 @@ def scan_column(
         rivals=tuple(census.rivals),
     )
     warnings = [*warn_order, *zone_warn, *census.notes_warn, *census.notes]
+    full = full_view(census, column)
+    if full is not census:
+        extra = unread_patterns(census, full, base)
+        if extra:
+            pats = [p for p in PATTERNS if p in base.patterns or p in extra]
+            rest = [p for p in base.patterns if p not in pats]
+            base = _evolve(base, patterns=(*pats, *rest))
+            notes.append(
+                "patterns seen only outside the sample: "
+                + ", ".join(label(p, day_order=base.day_order) for p in extra)
+            )
     candidates = [(base, 1.0, dict(decisions), notes, warnings)]
     candidates += _alternatives(base, census, decisions, prefer_day_order, ref_year)
-    suggestions = [
+    suggestions = [build_suggestion(full, base, 1.0, dict(decisions), notes, warnings)]
+    suggestions += [
         build_suggestion(census, spec, factor, dec, ev, warn)
-        for spec, factor, dec, ev, warn in candidates
+        for spec, factor, dec, ev, warn in candidates[1:]
     ]
+    remember(column, base, parse_sample(full, base))
     first, rest = suggestions[0], sorted(suggestions[1:], key=lambda s: -s.score)
     ranked = [first, *rest] if first.parsed or first.ambiguous else [*rest, first]
     ranked = _with_disagreements(census, ranked)
     best = ranked[0] if ranked else None
-    likeness = likeness_of(census, best, column.name, ref_year) if best else 0.0
+    likeness = likeness_of(full, best, column.name, ref_year) if best else 0.0
     summary = _summary(likeness, best)
     return ColumnReport(
         column=column.name,

@@ -117,30 +117,39 @@ def _as_array(texts: object) -> pa.Array:
     return pa.array(np.asarray(texts, dtype=object), type=pa.string(), from_pandas=True)
 
 
-def parse_texts(texts: object, spec: ParseSpec) -> TextResult:
-    """Parse texts (a sequence, numpy array or Arrow array of str) with ``spec``."""
+def parse_texts(
+    texts: object,
+    spec: ParseSpec,
+    *,
+    norm: pa.Array | None = None,
+    feats: dict[str, np.ndarray] | None = None,
+) -> TextResult:
+    """Parse texts (a sequence, numpy array or Arrow array of str) with ``spec``. ``norm`` and
+    ``feats`` (from ``normalise`` and ``fields.features``) may be passed when already known."""
     raw = _as_array(texts)
     n = len(raw)
     out = _empty_result(n)
     if n == 0:
         return out
-    norm = normalise(raw)
-    tokens = pa.array(sorted({t.casefold().strip() for t in spec.blank_tokens}), pa.string())
-    folded = pc.utf8_trim_whitespace(pc.utf8_lower(raw))
+    if norm is None:
+        norm = normalise(raw)
+    # Blank tokens compare with the text trimmed and case-folded (ParseSpec's contract).
+    folded_tokens = {t.strip().casefold() for t in spec.blank_tokens}
+    folded_tokens |= {t.strip().lower() for t in spec.blank_tokens}
+    tokens = pa.array(sorted(folded_tokens), pa.string())
     blank = np.zeros(n, dtype=bool)
     if len(tokens):
-        blank = pc.is_in(folded, value_set=tokens).to_numpy(zero_copy_only=False) | pc.is_in(
-            norm, value_set=tokens
-        ).to_numpy(zero_copy_only=False)
+        folded = pc.utf8_trim_whitespace(pc.utf8_lower(raw))
+        blank = pc.is_in(folded, value_set=tokens).to_numpy(zero_copy_only=False)
         bi = np.flatnonzero(blank)
         out.reason[bi] = [f'treated as blank: "{s}"' for s in raw.take(bi).to_pylist()]
+    out.state[blank] = CellState.BLANK
     nothing = pc.equal(pc.utf8_length(norm), 0).to_numpy(zero_copy_only=False) & ~blank
     if nothing.any():
-        out.reason[nothing] = "treated as blank: nothing but spaces or punctuation"
-    blank |= nothing
-    out.state[blank] = CellState.BLANK
-    remaining = np.flatnonzero(~blank)
-    feats = features(norm)
+        out.reason[nothing] = "no date here: only punctuation"
+    remaining = np.flatnonzero(~blank & ~nothing)
+    if feats is None:
+        feats = features(norm)
     rivals_done = False
     for k, pid in enumerate(spec.patterns):
         if len(remaining) == 0:
@@ -332,27 +341,60 @@ def _num_text(v: object) -> str:
 TEXT_LIKE = np.zeros(len(CellKind), dtype=bool)
 TEXT_LIKE[[CellKind.TEXT, CellKind.INT, CellKind.FLOAT, CellKind.ERROR]] = True
 
+NUMBER_KIND = np.zeros(len(CellKind), dtype=bool)
+NUMBER_KIND[[CellKind.INT, CellKind.FLOAT]] = True
+
 _DISTINCT: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
 
 
 def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(row positions of text-like cells, code of each, distinct texts), computed once per
-    column (a RawColumn is never changed, so the scan and the parse share the work)."""
+    column (a RawColumn is never changed, so the scan and the parse share the work).
+    Text cells and number cells are factorised apart, so only distinct numbers are turned
+    into text."""
     hit = _DISTINCT.get(column)
     if hit is not None:
         return hit
     kinds = column.kinds
     textual = TEXT_LIKE[kinds]
-    all_text = bool(textual.all())
-    rows = np.arange(len(column)) if all_text else np.flatnonzero(textual)
-    vals = column.values if all_text else column.values[rows]
-    codes, uniques = pd.factorize(vals)
-    mixed = pd.api.types.infer_dtype(uniques, skipna=False) != "string"
-    if mixed or (kinds[rows] != CellKind.TEXT).any():
-        uniques = np.array([_num_text(u) for u in uniques], dtype=object)
-    out = (rows, codes, np.asarray(uniques, dtype=object))
+    if bool(textual.all()) and not NUMBER_KIND[kinds].any():
+        groups = [np.arange(len(column))]
+    else:
+        numeric = NUMBER_KIND[kinds]
+        groups = [np.flatnonzero(textual & ~numeric), np.flatnonzero(numeric)]
+    rows_l, codes_l, uniq_l, offset = [], [], [], 0
+    for g, rows in enumerate(groups):
+        if not len(rows):
+            continue
+        vals = column.values if len(rows) == len(column) else column.values[rows]
+        codes, uniques = pd.factorize(vals)
+        if g == 1 or pd.api.types.infer_dtype(uniques, skipna=False) != "string":
+            uniques = np.array([_num_text(u) for u in uniques], dtype=object)
+        rows_l.append(rows)
+        codes_l.append(codes + offset)
+        uniq_l.append(np.asarray(uniques, dtype=object))
+        offset += len(uniques)
+    if not rows_l:
+        out = (np.zeros(0, np.int64), np.zeros(0, np.int64), np.zeros(0, dtype=object))
+    elif len(rows_l) == 1:
+        out = (rows_l[0], codes_l[0], uniq_l[0])
+    else:
+        rows = np.concatenate(rows_l)
+        order = np.argsort(rows, kind="stable")
+        out = (rows[order], np.concatenate(codes_l)[order], np.concatenate(uniq_l))
     _DISTINCT[column] = out
     return out
+
+
+_RESULTS: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
+def remember(column: RawColumn, spec: ParseSpec, res: TextResult) -> None:
+    """Keep the result of ``spec`` over the distinct texts of ``column`` (zones applied), so
+    parsing the column with the spec the scan just chose costs only the scatter to cells."""
+    _RESULTS.setdefault(column, {})
+    _RESULTS[column].clear()
+    _RESULTS[column][spec] = res
 
 
 def parse_column(
@@ -373,8 +415,10 @@ def parse_column(
     patterns = tuple(spec.patterns)
     rows, codes, uniques = distinct_texts(column)
     if len(rows):
-        res = parse_texts(uniques, spec)
-        _apply_zone(res, spec)
+        res = _RESULTS.get(column, {}).get(spec)
+        if res is None or len(res.state) != len(uniques):
+            res = parse_texts(uniques, spec)
+            _apply_zone(res, spec)
         if len(rows) == n:
             rows = slice(None)
         value[rows] = res.value[codes]

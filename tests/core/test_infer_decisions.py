@@ -1,0 +1,152 @@
+"""Scan decisions: day/month order by evidence or preference, century rules, date system,
+zones, rival number readings — and the sentences that say why. Counts in the expected
+sentences are counted by hand from the columns below."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from datemend.core.clean import CellState
+from datemend.core.infer import scan_column
+from datemend.core.parse import parse_column
+from datemend.core.table import RawColumn, SourceFacts, kinds_of
+
+
+def col(values: list[object], name: str = "c", text: bool = True) -> RawColumn:
+    arr = np.empty(len(values), dtype=object)
+    arr[:] = values
+    return RawColumn(name, arr, kinds_of(arr, text_only=text))
+
+
+def test_day_first_by_evidence() -> None:
+    c = col(["13/4/2024", "25/12/2023", "31/1/2024", "3/4/2024", "5/5/2024"])
+    best = scan_column(c).best
+    assert best.spec.day_order == "dmy"
+    assert best.decisions["day_order"] == "evidence"
+    assert best.evidence[0].startswith(
+        "day before month: 3 values have a first field above 12; none contradict"
+    )
+    # 3/4/2024 is then read day first: 3 April (by hand)
+    parsed = parse_column(c, best.spec)
+    assert parsed.value[3] == np.datetime64("2024-04-03", "us")
+
+
+def test_month_first_by_evidence() -> None:
+    c = col(["4/13/2024", "12/25/2023", "3/4/2024"])
+    best = scan_column(c).best
+    assert best.spec.day_order == "mdy"
+    assert best.evidence[0].startswith(
+        "month before day: 2 values have a second field above 12; none contradict"
+    )
+
+
+def test_undecided_stays_ambiguous_and_alternatives_say_guess() -> None:
+    c = col(["3/4/2024", "5/6/2024", "7/7/2024", "1/2/2023"])
+    rep = scan_column(c)
+    best = rep.best
+    assert best.spec.day_order is None
+    assert best.decisions["day_order"] == "undecided"
+    assert best.ambiguous == 3 and best.parsed == 1  # 7/7/2024 reads the same both ways
+    assert any("nothing in the column decides" in w for w in best.warnings)
+    orders = [s.spec.day_order for s in rep.suggestions]
+    assert {"dmy", "mdy"} <= set(orders)
+    assert all("a guess, not evidence" in s.evidence[0] for s in rep.suggestions[1:3])
+    # The two guesses disagree on 3/4/2024: 3 April vs 4 March (by hand).
+    second = rep.suggestions[1]
+    assert ("3/4/2024", "2024-04-03", "2024-03-04") in second.disagreements or (
+        "3/4/2024",
+        "2024-03-04",
+        "2024-04-03",
+    ) in second.disagreements
+    parsed = parse_column(c, best.spec)
+    assert parsed.state.tolist().count(CellState.AMBIGUOUS) == 3
+
+
+def test_preference_decides_only_where_data_cannot_and_says_so() -> None:
+    c = col(["3/4/2024", "5/6/2024"])
+    best = scan_column(c, prefer_day_order="dmy").best
+    assert best.spec.day_order == "dmy"
+    assert best.decisions["day_order"] == "preference"
+    assert "a preference, not evidence" in best.evidence[0]
+    # Evidence beats preference.
+    best2 = scan_column(col(["4/13/2024", "3/4/2024"]), prefer_day_order="dmy").best
+    assert best2.spec.day_order == "mdy" and best2.decisions["day_order"] == "evidence"
+
+
+def test_conflicting_orders_are_flagged_and_each_value_read_alone() -> None:
+    c = col(["13/4/2024", "4/13/2024", "3/4/2024"])
+    best = scan_column(c).best
+    assert best.spec.day_order is None
+    assert any("mixes day/month orders" in w for w in best.warnings)
+    parsed = parse_column(c, best.spec)
+    assert parsed.state.tolist() == [CellState.PARSED, CellState.PARSED, CellState.AMBIGUOUS]
+    assert parsed.value[0] == parsed.value[1] == np.datetime64("2024-04-13", "us")
+
+
+def test_two_digit_years_posix_by_default_and_said() -> None:
+    best = scan_column(col(["13/4/99", "25/12/05"], name="Visit"), reference_year=2026).best
+    assert best.spec.century == "posix"
+    assert any("POSIX rule" in e for e in best.evidence)
+
+
+def test_past_events_never_land_in_the_future() -> None:
+    # Under POSIX "30" is 2030, after the reference year 2026: read as 1930 instead (by hand).
+    c = col(["13/4/85", "25/12/30", "1/2/03"], name="Registered")
+    best = scan_column(c, reference_year=2026).best
+    assert (best.spec.century, best.spec.pivot_year) == ("past", 2026)
+    assert best.decisions["century"] == "evidence"
+    assert any("would fall after 2026" in e for e in best.evidence)
+    parsed = parse_column(c, best.spec)
+    assert parsed.value[1] == np.datetime64("1930-12-25", "us")
+    assert (parsed.value <= np.datetime64("2026-12-31", "us")).all()
+
+
+def test_name_hint_for_dates_of_birth() -> None:
+    # No value lands after 2026 by POSIX, but a birth date column takes the past rule
+    # (common practice, no source): 13/4/20 is then 2020, not a problem; 1/1/25 stays 2025.
+    c = col(["13/4/20", "1/1/25"], name="DOB")
+    best = scan_column(c, reference_year=2026).best
+    assert best.spec.century == "past"
+    assert any('column name "DOB"' in e for e in best.evidence)
+
+
+def test_date_system_from_the_workbook() -> None:
+    facts = SourceFacts(format="xlsx", date_system=1904)
+    c = col([2225, 37287, 40000], name="Joined", text=False)
+    best = scan_column(c, facts).best
+    assert best.spec.date_system == 1904
+    assert best.decisions["date_system"] == "evidence"
+    parsed = parse_column(c, best.spec)
+    # ISO/IEC 29500 §18.17.4: 1904-system serials 2225 and 37287.
+    assert parsed.value[:2].tolist() == [
+        np.datetime64("1910-02-03", "us").astype(object),
+        np.datetime64("2006-02-01", "us").astype(object),
+    ]
+
+
+def test_aware_and_naive_mix_is_flagged_and_utc_offered() -> None:
+    c = col(["2024-01-02T10:00:00+02:00", "2024-01-02T10:00:00", "2024-01-03T09:00:00Z"])
+    rep = scan_column(c)
+    assert any("mixes aware and naive" in w for w in rep.best.warnings)
+    zones = [s.spec.zone for s in rep.suggestions]
+    assert zones[0] is None and "UTC" in zones
+
+
+def test_rival_number_readings_stay_ambiguous() -> None:
+    # Each value is a valid YYMMDD, DDMMYY and MMDDYY date (dateutil's own example 090107).
+    c = col(["090107", "050311", "120610", "030504", "110208"], name="Day")
+    rep = scan_column(c, reference_year=2026)
+    best = rep.best
+    assert best.decisions.get("numbers") == "undecided"
+    parsed = parse_column(c, best.spec)
+    assert (parsed.state != CellState.PARSED).all()
+    assert "could be" in parsed.reason[0]
+
+
+def test_compact_digits_decided_by_evidence() -> None:
+    # 31122024 can only be DDMMYYYY (no month 31): the column is read day first.
+    c = col(["31122024", "01022024", "15062023"], name="Day")
+    best = scan_column(c, reference_year=2026).best
+    assert "compact-dmy" in best.spec.patterns and not best.spec.rivals
+    parsed = parse_column(c, best.spec)
+    assert parsed.value[1] == np.datetime64("2024-02-01", "us")

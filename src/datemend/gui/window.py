@@ -1,6 +1,7 @@
 """The main window: Columns | Cells and Date spread | Readings and Fix log, with menus and keys.
 
-The window holds no date logic. It turns clicks into calls on the core's Session, runs long work
+The window holds no date logic (file-level flows — fix-log files, replay, export, worked-out
+columns — are in ``flows.py``). It turns clicks into calls on the core's Session, runs long work
 (open, scan, replay, export, applying a long log) as Jobs, and redraws when the Session says
 something changed. Questions to the user go through ``ask_*`` methods and dialogs are shown with
 ``open()``, so tests replace the former and reach the latter as attributes.
@@ -13,7 +14,6 @@ Signals:
 
 from __future__ import annotations
 
-import contextlib
 from pathlib import Path
 from typing import Any
 
@@ -22,7 +22,6 @@ from PySide6.QtCore import QSettings, Qt, Signal
 from PySide6.QtGui import QAction, QCloseEvent, QDragEnterEvent, QDropEvent, QIcon, QKeySequence
 from PySide6.QtWidgets import QLabel, QMainWindow, QMessageBox, QSplitter
 
-from ..core.fixlog import FixLog
 from ..core.session import Session, SessionEvent
 from ..core.table import CellKind, RawColumn
 from .cells_model import CellsSource
@@ -32,6 +31,7 @@ from .dialogs import AboutDialog, DeriveDialog, ExportDialog, ReplayDialog
 from .errors import sentence_for
 from .files import FileAsker, make_settings
 from .fixlog_panel import FixLogPanel, StepRow
+from .flows import FileFlows
 from .jobs import Job, JobBar
 from .readings import ReadingsPanel
 
@@ -41,7 +41,7 @@ ICON = Path(__file__).with_name("datemend.svg")
 MAX_RECENT = 8
 
 
-class MainWindow(QMainWindow, FileAsker):
+class MainWindow(FileFlows, QMainWindow, FileAsker):
     """See the module docstring."""
 
     document_ready = Signal()
@@ -515,142 +515,6 @@ class MainWindow(QMainWindow, FileAsker):
     def redo(self) -> None:
         self._edit(lambda s: s.redo())
 
-    # ------------------------------------------------------------------ fix log files
-    def save_log(self) -> None:
-        s = self.session
-        if s is None:
-            return
-        path = self.ask_save_log_path(self._beside("-fixlog.json"))
-        if not path:
-            return
-        try:
-            s.save_log(path)
-        except Exception as err:  # one sentence; the traceback goes to the log
-            self.show_error(sentence_for(err, f"saving {Path(path).name}"))
-            return
-        self.say(f"Saved the fix log to {path}.")
-
-    def load_log(self) -> None:
-        if self.session is None:
-            return
-        path = self.ask_log_path()
-        if path:
-            self._edit(lambda s: s.load_log(path))
-
-    def _beside(self, suffix: str) -> Path:
-        base = self.path or Path.home() / "datemend"
-        return base.with_name(base.stem + suffix)
-
-    # ------------------------------------------------------------------ replay
-    def ask_and_replay(self) -> None:
-        paths = self.ask_replay_paths()
-        if paths:
-            self.replay_files(*paths)
-
-    def replay_files(self, log_path: str | Path, data_path: str | Path) -> Job:
-        """Read a log and a file, replay in a Job, then show the replay check."""
-        log_path, data_path = Path(log_path), Path(data_path)
-
-        def work(progress: Any) -> tuple[Session, Any, list[str]]:
-            from ..core.readers import list_sheets, read_table
-
-            log = FixLog.load(log_path)
-            raw = read_table(data_path, progress=progress)
-            session = Session(raw, FixLog(key_column=log.key_column))
-            session.scan_all(progress)
-            report = session.replay(log, progress)
-            sheets = [s.name for s in list_sheets(data_path) if s.visible]
-            return session, report, sheets
-
-        return self.run_job(
-            f"Replaying {log_path.name} on {data_path.name}",
-            work,
-            lambda r: self._show_replay(r[0], r[1], data_path, r[2]),
-            what=f"replaying {log_path.name} on {data_path.name}",
-        )
-
-    def _show_replay(self, session: Session, report: Any, path: Path, sheets: list[str]) -> None:
-        from .replay_view import replay_check_html
-
-        headline = _headline(report, path)
-        dialog = ReplayDialog(replay_check_html(report), headline, self)
-        self.replay_dialog = dialog
-        dialog.accepted.connect(lambda: self._accept_replay(session, report, path, sheets))
-        dialog.open()
-
-    def _accept_replay(self, session: Session, report: Any, path: Path, sheets: list[str]) -> None:
-        self._adopt(session, path, sheets)
-        self._edit(lambda s: s.accept_replay(report))
-        self.cells.problems_first.setChecked(True)
-        self.say(f"Replayed the fix log on {path.name}; cells needing a look are listed first.")
-
-    # ------------------------------------------------------------------ export, derive
-    def open_export(self) -> None:
-        if self.session is None:
-            return
-        dialog = ExportDialog(self._beside("-clean.xlsx"), self.ask_export_path, self)
-        dialog.export_requested.connect(self.export_to)
-        self.export_dialog = dialog
-        dialog.open()
-
-    def export_to(self, target: Path, options: Any, replace: bool) -> Job | None:
-        s = self.session
-        if s is None:
-            return None
-        clean = s.clean
-        lines = [e.step.describe() for e in s.log.entries if e.enabled]
-
-        def work(progress: Any) -> Any:
-            from ..core.export import export_table
-
-            return export_table(
-                clean,
-                target,
-                options=options,
-                log_lines=lines,
-                overwrite=replace,
-                progress=progress,
-            )
-
-        def done(result: Any) -> None:
-            self.last_export = result
-            self.say(
-                f"Wrote {result.path.name}: {result.dates_written:,} dates, "
-                f"{result.unresolved:,} cells left as written ({result.writer_text})."
-            )
-
-        return self.run_job(f"Exporting {target.name}", work, done, f"exporting {target.name}")
-
-    def open_derive(self) -> None:
-        s = self.session
-        if s is None:
-            return
-        from ..core import derive
-        from ..core.steps import STEP_TYPES
-
-        with contextlib.suppress(ImportError):
-            from ..core import checks  # noqa: F401 - registers the rule steps
-        kinds = [
-            c
-            for c in STEP_TYPES.values()
-            if c.__module__.endswith((".derive", ".checks")) and getattr(c, "title", "")
-        ]
-        names = list(
-            dict.fromkeys(
-                [pc.output_name for pc in s.clean.parsed.values()] + list(s.clean.derived)
-            )
-        )
-        dialog = DeriveDialog(
-            kinds,
-            derive.parameters,
-            lambda step: derive.preview(step, s.clean, 8, s.ctx),
-            names,
-            self,
-        )
-        dialog.step_requested.connect(lambda step: self._edit(lambda s: s.add_step(step)))
-        self.derive_dialog = dialog
-        dialog.open()
-
     # ------------------------------------------------------------------ window events
     def dragEnterEvent(self, event: QDragEnterEvent) -> None:
         urls = event.mimeData().urls()
@@ -685,17 +549,3 @@ def _derived_as_raw(name: str, values: Any) -> RawColumn:
     text[na] = None
     kinds = np.where(na, CellKind.EMPTY, CellKind.TEXT).astype(np.int8)
     return RawColumn(name, text, kinds)
-
-
-def _headline(report: Any, path: Path) -> str:
-    for name in ("headline", "summary"):
-        v = getattr(report, name, None)
-        v = v() if callable(v) else v
-        if isinstance(v, str) and v:
-            return v
-    lines = getattr(report, "lines", None)
-    if callable(lines):
-        got = list(lines())
-        if got:
-            return str(got[0])
-    return f"The fix log was replayed on {path.name}."

@@ -11,6 +11,8 @@ import jsonschema
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from datemend.core.clean import CellState
 from datemend.core.fixlog import (
@@ -220,6 +222,39 @@ def test_too_many_steps_are_refused():
     with pytest.raises(FixLogError, match=r"holds 20,001 steps, more than the 20,000") as err:
         FixLog.loads(json.dumps(d), "many.json")
     assert err.value.field == "steps"
+
+
+def _depth(obj) -> int:
+    """Nesting depth of parsed JSON: the reference for the text-level count."""
+    if isinstance(obj, list):
+        return 1 + max((_depth(v) for v in obj), default=0)
+    if isinstance(obj, dict):
+        return 1 + max((_depth(v) for v in obj.values()), default=0)
+    return 0
+
+
+_tricky = st.text(alphabet='[]{}"\\ab\n', max_size=8)
+_json = st.recursive(
+    st.none() | st.booleans() | st.integers() | _tricky,
+    lambda inner: st.lists(inner, max_size=3) | st.dictionaries(_tricky, inner, max_size=3),
+    max_leaves=20,
+)
+
+
+@settings(max_examples=200, deadline=None)
+@given(_json)
+def test_depth_count_agrees_with_the_parsed_json(obj):
+    from datemend.core.fixlog import _max_depth
+
+    # json.dumps escapes quotes and backslashes inside strings: brackets there must not count
+    assert _max_depth(json.dumps(obj)) == _depth(obj)
+
+
+def test_escaped_quotes_cost_linear_time():
+    # 1.25 million escaped quotes after an opening one: a backtracking scan would not finish
+    text = '{"notes": ["' + '\\"' * 1_250_000
+    with pytest.raises(FixLogError, match="ends before its JSON is complete"):
+        FixLog.loads(text, "quotes.json")
 
 
 def test_brackets_inside_text_are_not_nesting():

@@ -35,7 +35,6 @@ import datetime as _dt
 import importlib
 import json
 import os
-import re
 import tempfile
 from collections.abc import Iterable
 from dataclasses import dataclass, field
@@ -416,16 +415,22 @@ def load_step_kinds() -> None:
 
 # ------------------------------------------------------------------------------ parsing
 
-_STRING = re.compile(rb'"(?:[^"\\]|\\.)*"', re.DOTALL)
-
 
 def _max_depth(text: str) -> int:
-    """Deepest nesting of [ and { outside strings, counted without recursion (numpy)."""
-    data = _STRING.sub(b'""', text.encode("utf-8", "surrogatepass"))
-    arr = np.frombuffer(data, dtype=np.uint8)
-    step = np.isin(arr, (ord("["), ord("{"))).astype(np.int32)
-    step -= np.isin(arr, (ord("]"), ord("}"))).astype(np.int32)
-    return int(np.cumsum(step).max()) if len(step) else 0
+    """Deepest nesting of [ and { outside strings, in linear time without recursion (numpy):
+    a quote opens or closes a string unless an odd run of backslashes precedes it."""
+    arr = np.frombuffer(text.encode("utf-8", "surrogatepass"), dtype=np.uint8)
+    if len(arr) == 0:
+        return 0
+    pos = np.arange(len(arr), dtype=np.int32)
+    last_plain = np.maximum.accumulate(np.where(arr != ord("\\"), pos, -1))
+    before = np.concatenate((np.array([-1], dtype=np.int32), last_plain[:-1].astype(np.int32)))
+    backslashes = pos - 1 - before  # backslashes right before each position
+    quote = (arr == ord('"')) & (backslashes % 2 == 0)
+    inside = (np.cumsum(quote, dtype=np.int32) % 2) == 1
+    step = (np.isin(arr, (ord("["), ord("{"))) & ~inside).astype(np.int32)
+    step -= np.isin(arr, (ord("]"), ord("}"))) & ~inside
+    return int(np.cumsum(step).max())
 
 
 def _no_constant(token: str) -> Any:
@@ -453,7 +458,7 @@ def _parse_json(text: str, name: str) -> Any:
         return json.loads(text, parse_constant=_no_constant, object_pairs_hook=_no_duplicates)
     except json.JSONDecodeError as err:
         where = f"line {err.lineno}, column {err.colno}"
-        if err.pos >= len(text.rstrip()):
+        if err.pos >= len(text.rstrip()) or err.msg.startswith("Unterminated string"):
             msg = f"{name} ends before its JSON is complete ({where}); the file may be cut short."
         else:
             msg = f"{name} is not valid JSON at {where}: {err.msg}."

@@ -112,6 +112,8 @@ MALFORMED = [
     (_set("key_column", 3), None, "key_column", "must be text or null", "envelope type"),
     (_set("source", {"columns": "abc"}), None, "source.columns", "must be a list", "facts"),
     (_set("created", KeyError), None, None, None, "created is optional"),
+    (_set("steps/0/step/spec/patterns", ["x1"]), 1, "spec.patterns", "not a pattern", "pattern"),
+    (_set("steps/0/step/spec/zone", "Mars/Base"), 1, "spec.zone", "not an IANA", "zone name"),
 ]
 
 

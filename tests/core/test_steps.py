@@ -13,6 +13,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from datemend.core.clean import NAIVE, CellState, CleanTable, ParsedColumn
+from datemend.core.patterns import PATTERNS
 from datemend.core.spec import ParseSpec
 from datemend.core.steps import (
     STEP_TYPES,
@@ -225,7 +226,7 @@ def test_read_dates_uses_the_engine_suggestion():
 
 
 def test_sentences_are_one_sentence():
-    spec = ParseSpec(patterns=("p",), day_order="dmy")
+    spec = ParseSpec(patterns=("num-slash",), day_order="dmy")
     steps: list[Step] = [
         ReadDates("Born", spec, "D/M/YYYY 100%"),
         BlankTokens(("n/a", "-")),
@@ -244,9 +245,10 @@ def test_sentences_are_one_sentence():
 # ------------------------------------------------------------------------ JSON round trip
 
 _names = st.text(st.characters(codec="utf-8", exclude_categories=("Cs",)), min_size=1, max_size=12)
+_pattern_ids = st.sampled_from(sorted(PATTERNS))
 _spec = st.builds(
     ParseSpec,
-    patterns=st.lists(_names, max_size=4).map(tuple),
+    patterns=st.lists(_pattern_ids, max_size=4).map(tuple),
     day_order=st.sampled_from(["dmy", "mdy", None]),
     century=st.just("posix"),
     date_system=st.sampled_from([1900, 1904]),
@@ -256,7 +258,7 @@ _spec = st.builds(
 )
 _past_spec = st.builds(
     ParseSpec,
-    patterns=st.lists(_names, min_size=1, max_size=3).map(tuple),
+    patterns=st.lists(_pattern_ids, min_size=1, max_size=3).map(tuple),
     century=st.just("past"),
     pivot_year=st.integers(1, 9999),
 )
@@ -360,3 +362,22 @@ def test_steps_are_row_local(rows):
         assert np.array_equal(getattr(a, name), getattr(b, name)), name
     assert list(a.reason) == list(b.reason)
     assert a.output_name == b.output_name
+
+
+@pytest.mark.parametrize(
+    ("spec", "field"),
+    [
+        (ParseSpec(patterns=("no-such-pattern",)), "spec.patterns"),
+        (ParseSpec(patterns=("iso-date",), zone="Mars/Olympus"), "spec.zone"),
+        (ParseSpec(patterns=("iso-date",), zone="../../etc/passwd"), "spec.zone"),
+        (
+            ParseSpec(patterns=("iso-date",), zone="UTC", naive_zone="Nowhere/At_All"),
+            "spec.naive_zone",
+        ),
+    ],
+)
+def test_read_dates_refuses_unknown_patterns_and_zones(spec, field):
+    # zoneinfo (with tzdata, the IANA database) is the reference for zone names
+    with pytest.raises(FieldValueError) as err:
+        ReadDates("Born", spec)
+    assert err.value.field == field

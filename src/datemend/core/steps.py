@@ -356,6 +356,17 @@ def manual_value(value: str) -> tuple[np.datetime64, int, bool]:
     return np.datetime64(naive.isoformat(), "us"), offset, True
 
 
+def _is_zone(name: str) -> bool:
+    """An IANA zone key that zoneinfo (with tzdata) knows; "UTC" included."""
+    import zoneinfo
+
+    try:
+        zoneinfo.ZoneInfo(name)
+    except (zoneinfo.ZoneInfoNotFoundError, ValueError, OSError):
+        return False
+    return True
+
+
 def _spec_words(spec: ParseSpec) -> str:
     words = []
     if spec.day_order == "dmy":
@@ -383,6 +394,19 @@ class ReadDates(Step):
     column: str = field(metadata={"schema": {"minLength": 1}})
     spec: ParseSpec
     label: str = ""  # the suggestion's label, for the sentence
+
+    def __post_init__(self) -> None:
+        from .patterns import PATTERNS
+
+        unknown = [p for p in self.spec.patterns if p not in PATTERNS]
+        if unknown:
+            raise FieldValueError(
+                "spec.patterns", f'"{unknown[0]}" is not a pattern this datemend knows'
+            )
+        for name in ("zone", "naive_zone"):
+            zone = getattr(self.spec, name)
+            if zone is not None and not _is_zone(zone):
+                raise FieldValueError(f"spec.{name}", f'"{zone}" is not an IANA time zone name')
 
     def columns_read(self) -> tuple[str, ...]:
         return (self.column,)

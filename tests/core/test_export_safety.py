@@ -363,3 +363,16 @@ def test_xlsm_to_xlsm_keeps_the_macro_part(tmp_path):
     assert not any("Macros" in n for n in result.notes)
     ws = openpyxl.load_workbook(out, keep_vba=True)["Members"]
     assert ws.cell(HEADER_ROW + 1, 2).is_date
+
+
+def test_too_many_rows_for_a_sheet_is_refused(tmp_path, monkeypatch):
+    """A sheet holds at most 1,048,576 rows (value from memory of the common spreadsheet
+    program's published limits; ISO/IEC 29500 sets none): refuse before writing anything."""
+    from datemend.core import export as export_module
+
+    monkeypatch.setattr(export_module, "MAX_XLSX_ROWS", 5)
+    table = _text_table(INJECTION)
+    with pytest.raises(ExportError, match="do not fit on one XLSX sheet"):
+        export_table(table, tmp_path / "big.xlsx")
+    export_table(table, tmp_path / "big.csv")  # CSV has no such limit
+    assert _leftovers(tmp_path, {"big.csv"}) == []

@@ -251,6 +251,7 @@ def export_table(
                 f"{target.name}: only an XLSX or XLSM source can be kept as a workbook.", target
             )
         writer = "streaming" if options.streaming or not workbook_source else "workbook"
+        _check_sheet_size(clean, options, target)
     else:
         writer = fmt
     if writer == "workbook":
@@ -368,6 +369,26 @@ def _check_target(clean: CleanTable, target: Path, overwrite: bool) -> None:
         raise ExportError(f"Cannot export to {target.name}: {target.parent} is not a folder.")
     if target.exists() and not overwrite:
         raise ExportError(f"{target.name} already exists; confirm to overwrite it.", target)
+
+
+#: Largest sheet spreadsheet programs open: 1,048,576 rows by 16,384 columns (value from memory
+#: of their published limits; ISO/IEC 29500 itself sets none).
+MAX_XLSX_ROWS = 1_048_576
+MAX_XLSX_COLUMNS = 16_384
+
+
+def _check_sheet_size(clean: CleanTable, options: ExportOptions, target: Path) -> None:
+    raw = clean.raw
+    last_row = int(raw.source_rows.max()) if raw.n_rows and raw.source_rows is not None else 0
+    rows = max(raw.n_rows + 1, last_row)
+    cols = len(raw.columns) + len(clean.derived) + (len(clean.parsed) if options.keep_raw else 0)
+    if rows > MAX_XLSX_ROWS or cols > MAX_XLSX_COLUMNS:
+        raise ExportError(
+            f"{target.name}: {raw.n_rows:,} rows by {cols:,} columns do not fit on one XLSX "
+            f"sheet ({MAX_XLSX_ROWS:,} rows by {MAX_XLSX_COLUMNS:,} columns); export CSV or "
+            "Parquet instead.",
+            target,
+        )
 
 
 def _check_source_unchanged(source: Path, sha256: str | None) -> None:

@@ -111,6 +111,7 @@ def write_workbook(
     facts = raw.facts
     assert facts.path is not None
     name = Path(facts.path).name
+    progress.report(0, 1, f"Opening {name} to keep its workbook")
     try:
         wb = openpyxl.load_workbook(facts.path, keep_vba=keep_vba, data_only=False, rich_text=True)
     except Exception as err:  # openpyxl raises many kinds for a damaged file

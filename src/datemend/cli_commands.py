@@ -188,7 +188,9 @@ def _export_options(args: argparse.Namespace) -> Any:
 
 
 def _summary_lines(clean: Any) -> tuple[list[str], int]:
-    """One line per fixed column and the number of unresolved cells in all of them."""
+    """One line per fixed column, one per rule, and the number of unresolved cells."""
+    from .core.checks import rule_rows, rule_summary
+
     lines = []
     unresolved = 0
     for pc in clean.parsed.values():
@@ -198,6 +200,14 @@ def _summary_lines(clean: Any) -> tuple[list[str], int]:
         lines.append(
             f"  {pc.output_name}: {c['parsed'] + c['manual']} read, {c['blank']} blank, "
             f"{c['failed']} not read, {c['ambiguous']} unclear"
+        )
+    for name, dc in clean.derived.items():
+        lines.append(f"  worked out: {name}" + (f" — {dc.note}" if dc.note else ""))
+    for label, count in rule_summary(clean).items():
+        rows = ", ".join(str(r) for r in rule_rows(clean, label)[:8])
+        more = " …" if count > 8 else ""
+        lines.append(
+            f"  rule {label}: {count} rows break it" + (f" (rows {rows}{more})" if count else "")
         )
     return lines, unresolved
 

@@ -107,3 +107,43 @@ def test_replay_with_a_broken_log_names_the_file(tmp_path, capsys):
     err = capsys.readouterr().err
     assert code == 3
     assert "bad.json" in err and "Traceback" not in err
+
+
+def test_replay_prints_rule_counts_and_writes_ages(tmp_path, capsys):
+    """A log with an age column and a rule, replayed from the command line on November.
+
+    Expected values are worked out here from truth.json's intended dates with plain Python:
+    age in completed years = year difference minus one if the birthday has not come yet
+    (common practice, no source; nobody in the sample is born on 29 February)."""
+    import datetime as dt
+
+    from datemend.core import checks, derive
+    from datemend.core.fixlog import auto_fix
+    from datemend.core.readers import read_table
+
+    raw = read_table(SAMPLES / "rowing_club_2026-10.xlsx")
+    log, _ = auto_fix(raw, prefer_day_order="dmy")
+    log = log.add(derive.Age(birth="Born", as_of="2026-11-30", output="Age"))
+    log = log.add(checks.WithinRange(column="Born", earliest="1960-01-01", label="born 1960 on"))
+    path = tmp_path / "oct.json"
+    log.save(path)
+
+    out = tmp_path / "nov.csv"
+    main(["replay", str(path), str(SAMPLES / "rowing_club_2026-11.xlsx"), "-o", str(out)])
+    text = capsys.readouterr().out
+
+    truth = TRUTH["months"]["2026-11"]["rows"]
+    born_at = TRUTH["date_columns"].index("Born")
+    born = {r["member_no"]: r["cells"][born_at][0] for r in truth}
+    before_1960 = sum(1 for b in born.values() if b is not None and b < "1960-01-01")
+    assert f"rule born 1960 on: {before_1960} rows break it" in text
+
+    ref = dt.date(2026, 11, 30)
+    for row in _read_csv(out):
+        b = born[row["Member no"]]
+        if b is None:
+            assert row["Age"] == ""
+            continue
+        d = dt.date.fromisoformat(b)
+        want = ref.year - d.year - ((ref.month, ref.day) < (d.month, d.day))
+        assert row["Age"] == str(want), row["Member no"]

@@ -130,7 +130,7 @@ def test_render_then_read_gives_the_same_datetime(pid: str) -> None:
         else:
             t = dt.datetime(m.year, m.month, m.day)
         opts = {"time": "hms"} if timed and pid not in ("serial", "epoch-s", "epoch-ms") else {}
-        if pid.startswith("compact-") and len(pid) > 11 or pid == "compact-ymd":
+        if (pid.startswith("compact-") and len(pid) > 11) or pid == "compact-ymd":
             opts = {}
             t = dt.datetime(m.year, m.month, m.day)
         texts.append(P.render(pid, t, day_order="dmy", **opts))

@@ -19,7 +19,15 @@ import pyarrow.compute as pc
 from .clean import NAIVE, CellState
 from .fields import EV_BOTH_SMALL, EV_DMY, EV_MDY, Reading, features, read_pattern
 from .names import LANGUAGES, month_languages
-from .parse import DATE_CELL, _apply_zone, distinct_texts, iso_text, normalise, parse_texts
+from .parse import (
+    DATE_CELL,
+    TextResult,
+    _apply_zone,
+    distinct_texts,
+    iso_text,
+    normalise,
+    parse_texts,
+)
 from .patterns import PATTERNS, label, mix_label, pattern
 from .report import CellNote, Suggestion
 from .spec import ParseSpec
@@ -169,6 +177,7 @@ class Census:
     sample_note: str | None = None
     parsed_cache: dict = field(default_factory=dict)
     feats: dict | None = None
+    arrow: pa.Array | None = None  # the texts as an Arrow array
 
 
 def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
@@ -197,7 +206,8 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
             f"estimated from a sample of {len(sel):,} of {len(uniques):,} distinct values "
             f"({int(weights[sel].sum()):,} of {len(rows_t):,} cells)"
         )
-    norm = normalise(pa.array(texts[sel], type=pa.string()))
+    arrow = pa.array(texts[sel], type=pa.string())
+    norm = normalise(arrow)
     digit = pc.match_substring_regex(norm, _DIGITS_RE).to_numpy(zero_copy_only=False)
     spec = ParseSpec(
         patterns=tuple(p for p in PATTERNS if p != DATE_CELL),
@@ -230,6 +240,7 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
         sample_note=note,
     )
     c.feats = feats
+    c.arrow = arrow
     c.locales = _languages(c)
     return c
 
@@ -242,14 +253,16 @@ def full_view(c: Census, column: RawColumn) -> Census:
     cells = np.bincount(codes, minlength=len(texts)).astype(np.int64)
     first = np.full(len(texts), -1, dtype=np.int64)
     first[codes[::-1]] = np.arange(len(codes))[::-1]
-    norm = normalise(pa.array(texts, type=pa.string()))
+    arrow = pa.array(texts, type=pa.string())
+    norm = normalise(arrow)
     feats = features(norm)
     tokens = pa.array(list(c.blank_tokens), pa.string())
-    folded = pc.utf8_trim_whitespace(pc.utf8_lower(pa.array(texts, type=pa.string())))
+    folded = pc.utf8_trim_whitespace(pc.utf8_lower(arrow))
     placeholder = pc.is_in(folded, value_set=tokens).to_numpy(zero_copy_only=False)
     return replace(
         c,
         texts=texts,
+        arrow=arrow,
         weights=cells.astype(np.float64),
         cells=cells,
         rows=rows_t[first],
@@ -271,7 +284,7 @@ def unread_patterns(c: Census, full: Census, spec: ParseSpec) -> list[str]:
         return []
     idx = np.flatnonzero(lost)
     sub = full.norm.take(pa.array(idx))
-    feats = {f: v[idx] for f, v in full.feats.items()}
+    feats = full.feats.subset(idx)
     wide = ParseSpec(patterns=TEXT_PATTERNS, date_system=spec.date_system, locales=tuple(LANGUAGES))
     return [
         p
@@ -549,9 +562,14 @@ def decide_zone(c: Census, patterns: list[str]) -> list[str]:
     return []
 
 
-def parse_sample(c: Census, spec: ParseSpec):
-    res = parse_texts(c.texts, spec)
-    _apply_zone(res, spec)
+def parse_sample(c: Census, spec: ParseSpec) -> TextResult:
+    """``spec`` over the census's distinct values (zones applied), computed once per spec."""
+    res = c.parsed_cache.get(spec)
+    if res is None:
+        texts = c.arrow if c.arrow is not None else c.texts
+        res = parse_texts(texts, spec, norm=c.norm, feats=c.feats)
+        _apply_zone(res, spec)
+        c.parsed_cache[spec] = res
     return res
 
 

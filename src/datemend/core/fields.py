@@ -9,6 +9,7 @@ the building of reason sentences for the values that fail.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 import pyarrow as pa
@@ -153,24 +154,46 @@ class _Check:
             self.bad |= new
 
 
-def features(texts: pa.Array) -> dict[str, np.ndarray]:
-    """Cheap per-text features that say which patterns are worth trying (``Pattern.needs``)."""
+class _Features(dict):
+    """Per-text features computed on first use (``Pattern.needs`` names them)."""
 
-    def has(s: str) -> np.ndarray:
-        return pc.match_substring(texts, s).to_numpy(zero_copy_only=False)
-
-    return {
-        "digits": pc.match_substring_regex(texts, r"^-?\d+(?:\.\d*)?$").to_numpy(
-            zero_copy_only=False
-        ),
-        "alpha": pc.match_substring_regex(texts, r"\pL").to_numpy(zero_copy_only=False),
-        "slash": has("/"),
-        "dash": has("-"),
-        "dot": has("."),
-        "space": has(" "),
-        "w": has("w"),
-        "t": has("t"),
+    _TESTS: ClassVar[dict[str, tuple[str, str]]] = {
+        "digits": ("regex", r"^-?\d+(?:\.\d*)?$"),
+        "alpha": ("regex", r"\pL"),
+        "slash": ("has", "/"),
+        "dash": ("has", "-"),
+        "dot": ("has", "."),
+        "space": ("has", " "),
+        "w": ("has", "w"),
+        "t": ("has", "t"),
     }
+
+    def __init__(self, texts: pa.Array) -> None:
+        super().__init__()
+        self.texts = texts
+
+    def __missing__(self, key: str) -> np.ndarray:
+        how, arg = self._TESTS[key]
+        if how == "regex":
+            hit = pc.match_substring_regex(self.texts, arg)
+        else:
+            hit = pc.match_substring(self.texts, arg)
+        out = hit.to_numpy(zero_copy_only=False)
+        self[key] = out
+        return out
+
+    def subset(self, rows: np.ndarray, texts: pa.Array | None = None) -> _Features:
+        """The features of some rows (``texts``: those rows' texts, if already taken)."""
+        sub = _Features(self.texts.take(pa.array(rows)) if texts is None else texts)
+        for key, v in self.items():
+            sub[key] = v[rows]
+        return sub
+
+
+def features(texts: pa.Array) -> _Features:
+    """Cheap per-text features that say which patterns are worth trying (``Pattern.needs``),
+    each computed when first asked for."""
+    return _Features(texts)
 
 
 def read_pattern(
@@ -195,23 +218,8 @@ def _read(
     p: Pattern, texts: pa.Array, spec: ParseSpec, feats: dict[str, np.ndarray] | None
 ) -> Reading:
     n = len(texts)
-    matched = np.zeros(n, dtype=bool)
-    struct = None
-    if n and feats is not None and p.needs:
-        cand = np.zeros(n, dtype=bool)
-        for f in p.needs:
-            cand |= feats[f]
-        if cand.any():
-            ci = np.flatnonzero(cand)
-            s_sub = pc.extract_regex(texts.take(pa.array(ci)), p.shape)
-            matched[ci] = s_sub.is_valid().to_numpy(zero_copy_only=False)
-            struct = s_sub.filter(s_sub.is_valid())
-    elif n:
-        full = pc.extract_regex(texts, p.shape)
-        matched = full.is_valid().to_numpy(zero_copy_only=False)
-        struct = full.filter(full.is_valid())
     out = Reading(
-        matched=matched,
+        matched=np.zeros(n, dtype=bool),
         ok=np.zeros(n, dtype=bool),
         ambiguous=np.zeros(n, dtype=bool),
         value=np.zeros(n, dtype=np.int64),
@@ -222,19 +230,44 @@ def _read(
         two_digit=np.zeros(n, dtype=bool),
         year=np.zeros(n, dtype=np.int64),
     )
-    if not matched.any():
+    if not n:
         return out
-    idx = np.flatnonzero(matched)
-    sub = struct
-    k = len(idx)
-    res = _read_fields(p, sub, k, spec)
-    live = res.pop("live")
-    # Rows the shape matched but whose words are not names (or digit counts not allowed) are
-    # not this pattern at all.
-    out.matched[idx[~live]] = False
-    keep = idx[live]
-    for key, arr in res.items():
-        getattr(out, key)[keep] = arr[live]
+    if feats is not None and p.needs:
+        cand = np.zeros(n, dtype=bool)
+        for f in p.needs:
+            cand |= feats[f]
+        ci = np.flatnonzero(cand)
+        if not len(ci):
+            return out
+        sub_texts = texts if len(ci) == n else texts.take(pa.array(ci))
+    else:
+        ci = np.arange(n)
+        sub_texts = texts
+    # Fast path first: the date alone (most cells), then the full shape with time and zone.
+    groups = []
+    rest = ci
+    if p.simple:
+        s1 = pc.extract_regex(sub_texts, p.simple)
+        v1 = s1.is_valid().to_numpy(zero_copy_only=False)
+        if v1.any():
+            groups.append((ci[v1], s1.filter(s1.is_valid())))
+        rest = ci[~v1]
+        if len(rest) and len(rest) < len(ci):
+            sub_texts = sub_texts.filter(pa.array(~v1))
+    if len(rest):
+        s2 = pc.extract_regex(sub_texts, p.shape)
+        v2 = s2.is_valid().to_numpy(zero_copy_only=False)
+        if v2.any():
+            groups.append((rest[v2], s2.filter(s2.is_valid())))
+    for idx, struct in groups:
+        res = _read_fields(p, struct, len(idx), spec)
+        live = res.pop("live")
+        # Rows the shape matched whose words are no names (or digit counts not allowed) are
+        # not this pattern at all.
+        keep = idx[live]
+        out.matched[keep] = True
+        for key, arr in res.items():
+            getattr(out, key)[keep] = arr[live]
     return out
 
 

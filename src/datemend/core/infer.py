@@ -108,6 +108,10 @@ def scan_column(
     warnings = [*warn_order, *zone_warn, *census.notes_warn, *census.notes]
     full = full_view(census, column)
     if full is not census:
+        notes.append(
+            f"decided on a sample of {len(census.texts):,} of {census.n_distinct:,} distinct "
+            "values; the counts cover every cell"
+        )
         extra = unread_patterns(census, full, base)
         if extra:
             pats = [p for p in PATTERNS if p in base.patterns or p in extra]

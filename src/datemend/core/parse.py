@@ -20,7 +20,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from .clean import NAIVE, CellState, ParsedColumn
-from .fields import Reading, features, read_pattern
+from .fields import Reading, _Features, features, read_pattern
 from .names import ORDINAL_SUFFIX_RE
 from .patterns import label, pattern
 from .spec import ParseSpec
@@ -148,7 +148,7 @@ def parse_texts(
     if nothing.any():
         out.reason[nothing] = "no date here: only punctuation"
     remaining = np.flatnonzero(~blank & ~nothing)
-    if feats is None:
+    if not isinstance(feats, _Features) or len(feats.texts) != n:
         feats = features(norm)
     rivals_done = False
     for k, pid in enumerate(spec.patterns):
@@ -157,7 +157,7 @@ def parse_texts(
         if pid == DATE_CELL or (pid in spec.rivals and rivals_done):
             continue
         sub = norm.take(pa.array(remaining))
-        sub_feats = {f: v[remaining] for f, v in feats.items()}
+        sub_feats = feats.subset(remaining, sub)
         if pid in spec.rivals:
             rivals_done = True
             r, ks = _read_rivals(sub, sub_feats, spec)

@@ -70,6 +70,8 @@ class Pattern:
     uses_day_order: bool = False
     #: Cheap features (see ``fields.features``) of which a text must have one to be tried.
     needs: tuple[str, ...] = ()
+    #: The shape without its time and zone part, tried first (a cheaper regex; most cells).
+    simple: str | None = None
 
 
 def _num(sep_id: str, sep: str, shown: str) -> Pattern:
@@ -256,7 +258,12 @@ _NEEDS = {
 
 #: Every pattern by id, in the engine's default priority order.
 PATTERNS: dict[str, Pattern] = {
-    p.id: replace(p, needs=_NEEDS.get(p.id, ("digits",) if p.kind != "cell" else ())) for p in _ALL
+    p.id: replace(
+        p,
+        needs=_NEEDS.get(p.id, ("digits",) if p.kind != "cell" else ()),
+        simple=p.shape[: -len(_TZ)] + "$" if p.shape.endswith(_TZ) else None,
+    )
+    for p in _ALL
 }
 
 

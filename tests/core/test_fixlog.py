@@ -114,6 +114,23 @@ MALFORMED = [
     (_set("created", KeyError), None, None, None, "created is optional"),
     (_set("steps/0/step/spec/patterns", ["x1"]), 1, "spec.patterns", "not a pattern", "pattern"),
     (_set("steps/0/step/spec/zone", "Mars/Base"), 1, "spec.zone", "not an IANA", "zone name"),
+    (_set("steps/2/step/key_column", None), 3, "key", "row number must be", "row key not digits"),
+    (
+        _set("steps/3/step", {"kind": "set-cell", "column": "Born", "key": "²", "value": None}),
+        4,
+        "key",
+        "row number must be",
+        "superscript two is no ASCII digit",
+    ),
+    (
+        _set(
+            "steps/3/step", {"kind": "set-cell", "column": "Born", "key": "9" * 5000, "value": None}
+        ),
+        4,
+        "key",
+        "row number must be",
+        "row number too long",
+    ),
 ]
 
 

@@ -80,7 +80,7 @@ def find_rows(raw: RawTable, key_column: str | None, key: str) -> np.ndarray:
     """Row positions whose key is ``key``: the trimmed text of ``key_column``, or the 1-based
     source row number when ``key_column`` is None."""
     if key_column is None:
-        if not key.isdigit():
+        if not (key.isascii() and key.isdigit() and len(key) <= 18):
             return np.empty(0, dtype=np.int64)
         assert raw.source_rows is not None
         return np.flatnonzero(raw.source_rows == int(key))

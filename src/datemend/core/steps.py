@@ -356,6 +356,12 @@ def manual_value(value: str) -> tuple[np.datetime64, int, bool]:
     return np.datetime64(naive.isoformat(), "us"), offset, True
 
 
+def _is_row_number(key: str) -> bool:
+    """ASCII digits only (str.isdigit also accepts "²" and other scripts' digits), short enough
+    for an int64."""
+    return key.isascii() and key.isdigit() and 0 < len(key) <= 18
+
+
 def _is_zone(name: str) -> bool:
     """An IANA zone key that zoneinfo (with tzdata) knows; "UTC" included."""
     import zoneinfo
@@ -491,8 +497,8 @@ class SetCell(Step):
                 manual_value(self.value)
             except ValueError as err:
                 raise FieldValueError("value", str(err)) from None
-        if self.key_column is None and not self.key.isdigit():
-            raise FieldValueError("key", f'a row number key must be digits, not "{self.key}"')
+        if self.key_column is None and not _is_row_number(self.key):
+            raise FieldValueError("key", f'a row number must be 1 to 18 digits, not "{self.key}"')
 
     def columns_read(self) -> tuple[str, ...]:
         cols = (self.column,)

@@ -28,7 +28,7 @@ def column_letter(index: int) -> str:
 
 
 def _header_text(value: object, kind: int) -> str:
-    if kind == CellKind.EMPTY or value is None:
+    if value is None:
         return ""
     return (value if isinstance(value, str) else _as_text(value)).strip()
 
@@ -84,10 +84,12 @@ def build_table(
     keep: list[int] = []
     blank: list[str] = []
     dropped = 0
+    empty = int(CellKind.EMPTY)
+    has_data = [bool((k[data] != empty).any()) for k in kinds]
     for j in range(n_cols):
-        name = _header_text(values[j][h], int(kinds[j][h]))
-        has_data = bool((kinds[j][data] != CellKind.EMPTY).any())
-        if not name and not has_data:
+        kind = int(kinds[j][h])
+        name = "" if kind == empty else _header_text(values[j][h], kind)
+        if not name and not has_data[j]:
             dropped += 1
             continue
         if not name:

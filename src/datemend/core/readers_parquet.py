@@ -67,15 +67,26 @@ def _column(arr: pa.ChunkedArray | pa.Array) -> tuple[np.ndarray, np.ndarray]:
 
 def read_parquet_table(path: str, facts: SourceFacts, *, progress: Progress | None) -> RawTable:
     """Read a .parquet file, or every Parquet file in a folder, as one table."""
-    import pyarrow.dataset as ds
+    import pyarrow.parquet as pq
 
     name = Path(path).name
+    p = Path(path)
+    files = (
+        sorted(f for f in p.rglob("*") if f.is_file() and f.suffix.lower() in (".parquet", ".pq"))
+        if p.is_dir()
+        else [p]
+    )
+    # Each file through ParquetFile, not the dataset scanner: the scanner's background threads
+    # can outlive a failed read and abort the process at exit (apache/arrow issue 34314).
     try:
-        dataset = ds.dataset(path, format="parquet")
-        if progress is not None:
-            progress.report(1, 3, f"Reading {name}")
-        table = dataset.to_table()
-    except (pa.ArrowException, OSError, ValueError) as err:
+        parts = []
+        for k, f in enumerate(files):
+            if progress is not None:
+                progress.report(k, len(files) + 1, f"Reading {f.name}")
+            with pq.ParquetFile(f) as pf:
+                parts.append(pf.read(use_threads=False))
+        table = parts[0] if len(parts) == 1 else pa.concat_tables(parts, promote_options="default")
+    except (pa.ArrowException, OSError, ValueError, IndexError) as err:
         text = " ".join(str(err).split())[:120]
         raise ReadError(f"{name} could not be read as Parquet ({text}).", path) from None
     if table.num_columns == 0:

@@ -168,24 +168,25 @@ def _fast_parse(
             null_values=[],
         ),
     )
-    values, kinds = [], []
-    breaks = np.zeros(table.num_rows, dtype=np.int64)
-    has_breaks = "\n" in text and '"' in text
-    for col in table.columns:
-        col = col.combine_chunks() if isinstance(col, pa.ChunkedArray) else col
-        blank = pc.equal(pc.utf8_trim_whitespace(col), "").to_numpy(zero_copy_only=False)
-        vals = col.to_numpy(zero_copy_only=False).astype(object)
-        vals[blank] = None
-        values.append(vals)
-        kinds.append(np.where(blank, CellKind.EMPTY, CellKind.TEXT).astype(np.int8))
-        if has_breaks or "\r" in text:
-            n = pc.count_substring(col, "\n").to_numpy(zero_copy_only=False)
-            r = pc.count_substring(col, "\r").to_numpy(zero_copy_only=False)
-            rn = pc.count_substring(col, "\r\n").to_numpy(zero_copy_only=False)
-            breaks += n + r - rn
-    lines = np.arange(1, table.num_rows + 1, dtype=np.int64)
-    if breaks.any():
-        lines[1:] += np.cumsum(breaks)[:-1]
+    n_rows, n_cols = table.num_rows, table.num_columns
+    # All columns as one chunked array, so the work is a few vectorised calls, not per column.
+    chunks = [c for col in table.columns for c in col.chunks]
+    every = pa.chunked_array(chunks, type=pa.string())
+    blank = pc.equal(pc.utf8_trim_whitespace(every), "").to_numpy(zero_copy_only=False)
+    flat = every.to_numpy(zero_copy_only=False).astype(object, copy=False)
+    flat[blank] = None
+    grid = flat.reshape(n_cols, n_rows)
+    kind_grid = (
+        np.where(blank, CellKind.EMPTY, CellKind.TEXT).astype(np.int8).reshape(n_cols, n_rows)
+    )
+    lines = np.arange(1, n_rows + 1, dtype=np.int64)
+    if n_rows and ("\r" in text or ("\n" in text and '"' in text)):
+        counts = [pc.count_substring(every, s).to_numpy(zero_copy_only=False) for s in "\n\r"]
+        crlf = pc.count_substring(every, "\r\n").to_numpy(zero_copy_only=False)
+        breaks = (counts[0] + counts[1] - crlf).reshape(n_cols, n_rows).sum(axis=0)
+        if breaks.any():
+            lines[1:] += np.cumsum(breaks)[:-1]
+    values, kinds = list(grid), list(kind_grid)
     return values, kinds, lines
 
 

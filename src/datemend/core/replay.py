@@ -18,8 +18,9 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from .applylog import apply_log
 from .clean import CellState, CleanTable
-from .fixlog import FixLog, apply_log
+from .fixlog import FixLog
 from .progress import Progress
 from .rowkey import cells_text, find_rows
 from .spec import ParseSpec

@@ -12,8 +12,9 @@ from typing import Any
 
 import numpy as np
 
+from .applylog import apply_entry, apply_run
 from .clean import CleanTable, ParsedColumn
-from .fixlog import FixLog, LogEntry, apply_entry, apply_run
+from .fixlog import FixLog, LogEntry
 from .progress import Progress
 from .report import ColumnReport, Suggestion
 from .rowkey import cells_text, detect_key_column, find_rows, key_of_row

@@ -178,3 +178,12 @@ def test_states_over_every_cell() -> None:
         CellState.FAILED,
     ]
     assert parsed.value[1] == np.datetime64("2024-04-03", "us")
+
+
+def test_numbers_outside_plausible_years_are_pointed_out() -> None:
+    # 3.5 as a 1900-system serial is 1900-01-03 12:00 (date(1899,12,31) + 3.5 days): read as
+    # the spec says, but named in a warning so it is not silently accepted.
+    rep = scan_column(col([44927, "2024-01-01", 3.5], "Joined", text=False), reference_year=2026)
+    warn = " ".join(rep.best.warnings)
+    assert "1 numbers read as serial 1900 give dates outside 1920–2076" in warn
+    assert "3.5 → 1900-01-03T12:00:00" in warn

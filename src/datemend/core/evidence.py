@@ -177,6 +177,7 @@ class Census:
     sample_note: str | None = None
     parsed_cache: dict = field(default_factory=dict)
     feats: dict | None = None
+    ref_year: int = 2100
     arrow: pa.Array | None = None  # the texts as an Arrow array
 
 
@@ -624,6 +625,7 @@ def build_suggestion(
             warn.append(
                 f"{hits} values are {s}, a date often written to mean 'no date'; kept as dates"
             )
+    warn += _implausible_numbers(c, spec, res, parsed_m)
     coverage = parsed / total if total else 0.0
     return Suggestion(
         spec=spec,
@@ -640,6 +642,27 @@ def build_suggestion(
         failed=failed,
         ambiguous=amb,
     )
+
+
+def _implausible_numbers(c: Census, spec: ParseSpec, res: TextResult, parsed: np.ndarray) -> list:
+    """A sentence per number reading whose dates fall outside the plausible years: they are
+    read (the spec says so) but the user should look (common practice, no source)."""
+    out = []
+    years = res.value.astype("datetime64[Y]").astype(np.int64) + 1970
+    for k, pid in enumerate(spec.patterns):
+        if pid not in DIGIT_PATTERNS:
+            continue
+        lo, hi = _window(pid, c.ref_year)
+        odd = parsed & (res.pattern == k) & c.digit & ((years < lo) | (years > hi))
+        if odd.any():
+            j = np.flatnonzero(odd)[0]
+            example = f"{c.texts[j]} → {iso_text(*_at(res, np.array([j])))[0]}"
+            lab = label(pid, date_system=spec.date_system)
+            out.append(
+                f"{_n(c.weights[odd].sum())} numbers read as {lab} give dates outside "
+                f"{lo}–{hi} (e.g. {example}); check them"
+            )
+    return out
 
 
 def _at(res, j: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

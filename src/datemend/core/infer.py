@@ -48,7 +48,7 @@ __all__ = ["SAMPLE", "scan", "scan_column"]
 
 #: Distinct values the census reads per column to make its decisions. The chosen reading is
 #: then applied to every distinct value, so the best suggestion's counts are exact.
-SAMPLE = 8_000
+SAMPLE = 5_000
 
 
 def scan_column(
@@ -67,6 +67,7 @@ def scan_column(
     ref_year = reference_year or _dt.date.today().year
     kinds = {k.name.lower(): int(c) for k, c in zip(CellKind, _kind_counts(column)) if c}
     census = census_of(column, facts, sample=SAMPLE)
+    census.ref_year = ref_year
     placeholders = placeholders_of(census)
     census.blank_tokens = tuple(t for t, _ in placeholders)
     patterns = choose_patterns(census, ref_year)

@@ -40,7 +40,7 @@ DATE_CELL = "date-cell"
 
 _SPACES = r"[\t\n\r\f\v \x{00a0}\x{1680}\x{2000}-\x{200b}\x{202f}\x{205f}\x{3000}\x{feff}]+"
 _EDGE = " \"'`“”‘’„«»‹›()[]{}<>,;"
-_FILLER = r"(^| )(?:de|del|of|the|le|el|den|der|il|lo|op|em)( |$)"
+_FILLER = r"(^| )(?:de|del|of|the|le|el|den|der|il|lo|op|em|at|um|à|às|a|las|alle|om)( |$)"
 _TIME_ONLY = r"^\d{1,2}:\d{2}(?::\d{2}(?:[.,]\d+)?)?(?: ?[ap]m)?$"
 
 

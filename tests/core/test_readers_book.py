@@ -318,3 +318,30 @@ def test_missing_file_and_header_past_end(tmp_path):
     p = _book(tmp_path / "short.xlsx", [["a"], [1]])
     with pytest.raises(ReadError, match=r"Header row 50 is past the end of short\.xlsx"):
         read_table(p, header_row=50)
+
+
+def test_ods_merged_and_hidden_rows_noted(tmp_path):
+    def patch(c):
+        c = c.replace(
+            '<table:table-cell office:value-type="string" office:string-value="a">',
+            '<table:table-cell table:number-columns-spanned="2" office:value-type="string" '
+            'office:string-value="a">',
+            1,
+        )
+        first = c.index("<table:table-row>")
+        second = c.index("<table:table-row>", first + 1)
+        return c[:second] + '<table:table-row table:visibility="collapse">' + c[second + 17 :]
+
+    df = pd.DataFrame({"a": ["x", "y"], "b": [1, 2]})
+    t = read_table(_ods(tmp_path / "m.ods", df, patch))
+    notes = " ".join(t.facts.notes)
+    assert "A1:B1" in notes  # the spanned header cell
+    assert "rows 2" in notes  # the first data row is collapsed (hidden)
+    assert t.n_rows == 2
+
+
+def test_xlsm_reads_like_xlsx(tmp_path):
+    p = _book(tmp_path / "macro.xlsm", [["Joined"], [dt.date(2019, 3, 14)]])
+    t = read_table(p)
+    assert t.facts.format == "xlsm"
+    assert t.column("Joined").values[0] == dt.date(2019, 3, 14)

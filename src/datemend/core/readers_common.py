@@ -116,7 +116,8 @@ def build_table(
     if h > 0 and int(filled[:h].sum()) > 0:
         notes.append(f"{int(filled[:h].sum())} non-empty row(s) above the header row were skipped.")
     cols = tuple(
-        RawColumn(name, values[j][data].copy(), kinds[j][data].copy())
+        # views into the reader's grid: no copy; nothing writes to a RawTable after this
+        RawColumn(name, values[j][data], kinds[j][data])
         for name, j in zip(unique, keep)
     )
     facts = replace(facts, header_row=header_at, notes=tuple(facts.notes) + tuple(notes))

@@ -128,7 +128,10 @@ def test_rfc3339_offset_value_is_the_same_instant():
     assert v - np.timedelta64(off, "m") == np.datetime64("1996-12-20T00:39:57", "us")
 
 
-@pytest.mark.parametrize("bad", ["2024-02-30", "31/12/2024", "yesterday", "2023-02-29"])
+# RFC 3339 §5.8's leap second 1990-12-31T23:59:60Z cannot be held by Python's datetime: refused.
+@pytest.mark.parametrize(
+    "bad", ["2024-02-30", "31/12/2024", "yesterday", "2023-02-29", "1990-12-31T23:59:60Z"]
+)
 def test_manual_value_refuses_what_is_no_date(bad):
     # 2023 is a common year (calendar.isleap(2023) is False), so 29 February does not exist.
     with pytest.raises(ValueError):
@@ -198,6 +201,15 @@ def test_date_part_drops_time_and_offset():
     assert pc.value[1] == np.datetime64("2024-03-11", "us")
     assert not pc.has_time.any() and (pc.offset_min == NAIVE).all() and pc.date_only
     assert pc.state[1] == CellState.MANUAL
+
+
+def test_date_part_before_1970_floors_to_the_day():
+    # numpy datetime64 casts floor (not truncate toward the epoch): checked against
+    # datetime.datetime(1969, 12, 31, 23, 0).date() == date(1969, 12, 31) from Python's datetime
+    t = _table(["a"], ["1969-12-31T23:00:00"])
+    pc = DatePart("Born").apply(t, CTX).parsed["Born"]
+    ref = dt.datetime(1969, 12, 31, 23, 0).date()
+    assert pc.value[0] == np.datetime64(ref.isoformat(), "us")
 
 
 def test_rename_column_and_refusal_of_a_taken_name():

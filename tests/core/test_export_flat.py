@@ -327,3 +327,20 @@ def test_derived_columns_in_csv_and_parquet(club, tmp_path):
     assert p.schema.field("Label").type == pa.string()
     assert p["Age"].to_pylist()[:2] == [41, None]
     assert p["Due"].to_pylist()[0] == dt.datetime(2030, 6, 30)
+
+
+def test_csv_guard_covers_derived_text_only(club, tmp_path):
+    # OWASP CSV injection advice applies to text; numbers such as -5 stay numbers.
+    _, table = club
+    table = _with_derived(table)
+    n = table.raw.n_rows
+    from datemend.core.clean import DerivedColumn
+
+    delta = DerivedColumn("Delta", pd.Series(pd.array([-5] + [None] * (n - 1), dtype="Int64")))
+    table = table.evolve(derived={**table.derived, "Delta": delta})
+    out = tmp_path / "g.csv"
+    export_table(table, out, options=ExportOptions(csv_formula_guard=True))
+    t = _read_csv_strings(out)
+    assert t["Label"].to_pylist()[:3] == ["'=odd", "", "q1"]
+    assert t["Delta"].to_pylist()[0] == "-5"
+    assert t["Note"].to_pylist()[:4] == ["'=1+1", "'@SUM(A1)", "'+44 20 7946 0000", "'-5"]

@@ -158,7 +158,14 @@ def iso_text(d: DateOut) -> np.ndarray:
 
 def _column_text(col: FlatColumn, options: ExportOptions) -> np.ndarray:
     if col.series is not None:
-        return _series_text(col.series)
+        text = _series_text(col.series)
+        textual = not (
+            pd.api.types.is_numeric_dtype(col.series.dtype)
+            or pd.api.types.is_datetime64_any_dtype(col.series.dtype)
+        )
+        if options.csv_formula_guard and textual:
+            text = _guard(text, np.ones(len(text), dtype=bool))
+        return text
     assert col.values is not None and col.kinds is not None
     text = raw_text(col.values, col.kinds)
     if options.csv_formula_guard:

@@ -207,8 +207,12 @@ def write_workbook(
             f"{early} dates fall before the workbook's date system begins and were written as "
             "ISO 8601 text."
         )
-    if any(cell.data_type == "f" for row in ws.iter_rows() for cell in row):
-        notes.append("Formulas are kept; spreadsheet programs recalculate them on opening.")
+    if any(c.data_type == "f" for sheet in wb.worksheets for row in sheet.iter_rows() for c in row):
+        notes.append(
+            "Formulas are kept but not their saved results (they could be stale once dates "
+            "change): spreadsheet programs recalculate them on opening; readers that do not "
+            "calculate see them empty."
+        )
     notes += fix.note()
     n_cols = len(raw.columns) + len(clean.derived) + (len(clean.parsed) if options.keep_raw else 0)
     return raw.n_rows, n_cols, dates, unresolved, notes

@@ -58,8 +58,9 @@ def machine_facts() -> list[str]:
                 break
     except OSError:
         pass
+    from importlib.metadata import version
+
     import pyarrow
-    import python_calamine
 
     from datemend import __version__
 
@@ -68,7 +69,7 @@ def machine_facts() -> list[str]:
         f"OS: {platform.platform()}",
         f"Python {platform.python_version()}; pandas {pd.__version__}; numpy {np.__version__}; "
         f"pyarrow {pyarrow.__version__}; python-calamine "
-        f"{getattr(python_calamine, '__version__', '?')}; datemend {__version__}",
+        f"{version('python-calamine')}; datemend {__version__}",
     ]
 
 

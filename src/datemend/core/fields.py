@@ -8,7 +8,9 @@ the building of reason sentences for the values that fail.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import ClassVar
 
 import numpy as np
@@ -23,6 +25,10 @@ from .spec import ParseSpec
 __all__ = ["Reading", "days_from_civil", "features", "read_pattern"]
 
 US_PER_DAY = 86_400_000_000
+#: Below this many texts, regexes and field conversions run in plain Python (``re`` compiled
+#: once) rather than in Arrow, whose per-call cost (an RE2 compile each time) dominates tiny
+#: columns; results are the same.
+SMALL = 48
 _MONTHS = [
     "January",
     "February",
@@ -101,10 +107,19 @@ def _field(sub: pa.StructArray, name: str) -> pa.Array | None:
     return sub.field(name)
 
 
+def _lens(f: pa.Array) -> np.ndarray:
+    """Length of each text (int64)."""
+    if len(f) <= SMALL:
+        return np.array([len(x or "") for x in f.to_pylist()], dtype=np.int64)
+    return pc.utf8_length(f).to_numpy(zero_copy_only=False).astype(np.int64)
+
+
 def _ints(f: pa.Array | None, default: int = -1) -> np.ndarray:
     """Digits → int64 (empty or absent → default)."""
     if f is None:
         return np.full(0, default, dtype=np.int64)
+    if len(f) <= SMALL:
+        return np.array([int(x) if x else default for x in f.to_pylist()], dtype=np.int64)
     empty = pc.equal(pc.utf8_length(f), 0)
     cleaned = pc.if_else(empty, pa.scalar(None, pa.string()), f)
     return pc.cast(cleaned, pa.int64()).fill_null(default).to_numpy(zero_copy_only=False)
@@ -120,6 +135,8 @@ def _fraction_us(f: pa.Array | None, n: int) -> np.ndarray:
     """Fraction digits ("52", "123456789") → microseconds (truncated past six digits)."""
     if f is None:
         return np.zeros(n, dtype=np.int64)
+    if len(f) <= SMALL:
+        return np.array([int((x or "").ljust(6, "0")[:6]) for x in f.to_pylist()], dtype=np.int64)
     padded = pc.utf8_slice_codeunits(pc.utf8_rpad(f, 6, "0"), 0, 6)
     return _ints(padded, 0)
 
@@ -174,6 +191,15 @@ class _Features(dict):
 
     def __missing__(self, key: str) -> np.ndarray:
         how, arg = self._TESTS[key]
+        if len(self.texts) <= SMALL:
+            vals = [t or "" for t in self.texts.to_pylist()]
+            if how == "regex":
+                rx = _python_regex(arg)[0]
+                out = np.array([rx.search(t) is not None for t in vals], dtype=bool)
+            else:
+                out = np.array([arg in t for t in vals], dtype=bool)
+            self[key] = out
+            return out
         if how == "regex":
             hit = pc.match_substring_regex(self.texts, arg)
         else:
@@ -194,6 +220,28 @@ def features(texts: pa.Array) -> _Features:
     """Cheap per-text features that say which patterns are worth trying (``Pattern.needs``),
     each computed when first asked for."""
     return _Features(texts)
+
+
+@lru_cache(maxsize=512)
+def _python_regex(regex: str) -> tuple[re.Pattern[str], tuple[str, ...]]:
+    # The shapes use RE2 syntax; the few constructs Python writes differently are translated.
+    py = regex.replace(r"[\pL-]", r"(?:[^\W\d_]|-)")
+    py = py.replace(r"\pL", r"[^\W\d_]").replace("$", r"\Z")
+    rx = re.compile(py)
+    return rx, tuple(rx.groupindex)
+
+
+def extract(texts: pa.Array, regex: str) -> pa.StructArray:
+    """``pyarrow.compute.extract_regex``, in Python for a handful of texts."""
+    if len(texts) > SMALL:
+        return pc.extract_regex(texts, regex)
+    rx, names = _python_regex(regex)
+    rows = []
+    for t in texts.to_pylist():
+        m = rx.match(t) if t is not None else None
+        rows.append(None if m is None else {k: (v or "") for k, v in m.groupdict().items()})
+    typ = pa.struct([(k, pa.string()) for k in names])
+    return pa.array(rows, type=typ)
 
 
 def read_pattern(
@@ -247,7 +295,7 @@ def _read(
     groups = []
     rest = ci
     if p.simple:
-        s1 = pc.extract_regex(sub_texts, p.simple)
+        s1 = extract(sub_texts, p.simple)
         v1 = s1.is_valid().to_numpy(zero_copy_only=False)
         if v1.any():
             groups.append((ci[v1], s1.filter(s1.is_valid())))
@@ -255,7 +303,7 @@ def _read(
         if len(rest) and len(rest) < len(ci):
             sub_texts = sub_texts.filter(pa.array(~v1))
     if len(rest):
-        s2 = pc.extract_regex(sub_texts, p.shape)
+        s2 = extract(sub_texts, p.shape)
         v2 = s2.is_valid().to_numpy(zero_copy_only=False)
         if v2.any():
             groups.append((rest[v2], s2.filter(s2.is_valid())))
@@ -281,7 +329,7 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
     yf = _field(sub, "y")
     y = _ints(yf, 0)
     if yf is not None:
-        two = pc.equal(pc.utf8_length(yf), 2).to_numpy(zero_copy_only=False)
+        two = _lens(yf) == 2
     y = _century(y, two, spec)
     chk = _Check(k, live)
     wd_given = np.full(k, -1, dtype=np.int64)
@@ -330,7 +378,7 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
             wkeys = pa.array(list(wtable), pa.string())
             wpos = pc.index_in(wdf, value_set=wkeys)
             wvals = np.array(list(wtable.values()), dtype=np.int64)
-            has_wd = pc.greater(pc.utf8_length(wdf), 0).to_numpy(zero_copy_only=False)
+            has_wd = _lens(wdf) > 0
             wp = wpos.fill_null(-1).to_numpy(zero_copy_only=False)
             live &= ~has_wd | (wp >= 0)
             wd_given = np.where(has_wd & (wp >= 0), wvals[np.clip(wp, 0, None)], -1)
@@ -484,7 +532,7 @@ def _zone_offsets(zf: pa.Array, zs: np.ndarray, k: int) -> tuple[np.ndarray, np.
     out = np.full(k, NAIVE, dtype=np.int64)
     for name, minutes in ZONE_NAMES.items():
         out[zs == name] = minutes
-    parts = pc.extract_regex(zf, r"^(?:utc|gmt)?(?P<s>[+-])(?P<h>\d{2}):?(?P<m>\d{2})?$")
+    parts = extract(zf, r"^(?:utc|gmt)?(?P<s>[+-])(?P<h>\d{2}):?(?P<m>\d{2})?$")
     num = parts.is_valid().to_numpy(zero_copy_only=False)
     bad = np.zeros(k, dtype=bool)
     if num.any():
@@ -500,7 +548,7 @@ def _zone_offsets(zf: pa.Array, zs: np.ndarray, k: int) -> tuple[np.ndarray, np.
 def _read_number(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> dict:
     ints = _field(sub, "i")
     i = _ints(ints, 0)
-    ndig = pc.utf8_length(ints).to_numpy(zero_copy_only=False)
+    ndig = _lens(ints)
     neg = (
         _strs(_field(sub, "neg"), k) == "-" if _field(sub, "neg") is not None else np.zeros(k, bool)
     )
@@ -509,7 +557,7 @@ def _read_number(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
     chk = _Check(k, live)
     has_frac = np.zeros(k, bool)
     if ff is not None:
-        has_frac = pc.greater(pc.utf8_length(ff), 0).to_numpy(zero_copy_only=False)
+        has_frac = _lens(ff) > 0
     if p.kind == "serial":
         # Fraction of a day → microseconds, from the digits (no float error on the date part).
         fstr = _strs(ff, k)

@@ -9,6 +9,7 @@ the building of reason sentences for the values that fail.
 from __future__ import annotations
 
 import re
+import threading
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import ClassVar
@@ -156,18 +157,28 @@ def _date_name(y: int, m: int, d: int) -> str:
     return f"{d} {_MONTHS[m - 1]} {y:04d}"
 
 
+#: Per thread: whether reason sentences are written (the scan's census needs only counts).
+_LOCAL = threading.local()
+
+
+def _explaining() -> bool:
+    return getattr(_LOCAL, "explain", True)
+
+
 class _Check:
     """First failing check wins: ``fail(mask, texts_fn)`` marks the rows not failed yet."""
 
     def __init__(self, n: int, live: np.ndarray) -> None:
         self.bad = ~live
         self.reason = np.full(n, None, dtype=object)
+        self.explain = _explaining()
 
     def fail(self, mask: np.ndarray, make) -> None:
         new = mask & ~self.bad
         if new.any():
-            idx = np.flatnonzero(new)
-            self.reason[idx] = np.array([make(i) for i in idx], dtype=object)
+            if self.explain:
+                idx = np.flatnonzero(new)
+                self.reason[idx] = np.array([make(i) for i in idx], dtype=object)
             self.bad |= new
 
 
@@ -255,11 +266,12 @@ def read_pattern(
     """Read ``texts`` (normalised, see ``parse.normalise``) with pattern ``p`` under ``spec``.
     ``feats`` (from ``features(texts)``) lets the regex skip texts that cannot match; without
     ``explain`` no reason sentences are written (the scan's census needs only the counts)."""
-    _Check.explain = explain
+    before = _explaining()
+    _LOCAL.explain = explain
     try:
         return _read(p, texts, spec, feats)
     finally:
-        _Check.explain = True
+        _LOCAL.explain = before
 
 
 def _read(
@@ -446,7 +458,7 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
     amb &= ~chk.bad
     ok = ~chk.bad & ~amb
     reason = chk.reason
-    if amb.any() and _Check.explain:
+    if amb.any() and _explaining():
         ia = np.flatnonzero(amb)
         reason[ia] = np.array(
             [

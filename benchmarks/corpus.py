@@ -453,6 +453,139 @@ def mixed(rng: random.Random, n: int) -> Iterator[LabelledColumn]:
     yield _text_col("mixed column", "renewal", pairs)
 
 
+def contradicting(rng: random.Random, n: int) -> Iterator[LabelledColumn]:
+    # Two writers in one column: some values only read day-first (25/12/…), others only
+    # month-first (12/25/…). The evidence contradicts itself, so a value readable both ways
+    # has no knowable truth (unless day == month).
+    pairs = []
+    for _ in range(n // 2):
+        d = _date(rng, 1990, 2030)
+        order = rng.choice(["dmy", "mdy"])
+        text = _numeric(d, order, "/", True, 4)
+        known = d.day > 12 or d.day == d.month
+        pairs.append((text, _at(d) if known else None, None))
+    yield _text_col("contradicting D/M and M/D", "merged_dates", pairs)
+
+
+def not_dates(rng: random.Random, n: int) -> Iterator[LabelledColumn]:
+    # Columns a scan must not take for dates: member numbers, amounts, times of day alone.
+    ids = rng.sample(range(1001, 9999), n // 2)
+    yield LabelledColumn(
+        "not dates: member numbers",
+        "member_no",
+        list(ids),
+        [CellKind.INT] * len(ids),
+        [None] * len(ids),
+        [None] * len(ids),
+        SourceFacts(format="xlsx"),
+    )
+    amounts = [round(rng.uniform(5, 2500), 2) for _ in range(n // 2)]
+    yield LabelledColumn(
+        "not dates: amounts",
+        "fee_paid",
+        amounts,
+        [CellKind.FLOAT] * len(amounts),
+        [None] * len(amounts),
+        [None] * len(amounts),
+        SourceFacts(format="xlsx"),
+    )
+    times = [
+        (f"{rng.randrange(24):02d}:{rng.randrange(60):02d}", None, None) for _ in range(n // 2)
+    ]
+    yield _text_col("not dates: times of day alone", "session_start", times)
+
+
+def harder_forms(rng: random.Random, n: int) -> Iterator[LabelledColumn]:
+    # Serials and epochs as CSV text; epoch seconds with a fraction; 12-hour clock with seconds.
+    pairs = []
+    for _ in range(n // 2):
+        d = _date(rng, 1995, 2030)
+        pairs.append((str((_at(d) - dt.datetime(1899, 12, 30)).days), _at(d), None))
+    col = _text_col("serial 1900 as CSV text", "paid_csv", pairs)
+    col.facts = SourceFacts(format="csv")
+    yield col
+    vals = []
+    for _ in range(n // 2):
+        t = _datetime(rng, 1995, 2030).replace(microsecond=rng.randrange(1000) * 1000)
+        secs = (t - dt.datetime(1970, 1, 1)) / dt.timedelta(seconds=1)
+        vals.append((f"{secs:.3f}", t, 0))
+    col = _text_col("epoch s with fraction as text", "created_csv", vals)
+    col.tolerance_us = 1000
+    yield col
+    pairs = []
+    for _ in range(n // 2):
+        t = _datetime(rng)
+        hour = t.hour % 12 or 12
+        ap = "AM" if t.hour < 12 else "PM"
+        text = f"{t.day:02d}/{t.month:02d}/{t.year} {hour}:{t.minute:02d}:{t.second:02d} {ap}"
+        pairs.append((text, t, None))
+    pairs[0] = ("25/12/2023 1:05:09 PM", dt.datetime(2023, 12, 25, 13, 5, 9), None)
+    yield _text_col("12-hour h:mm:ss D/M/YYYY", "finish_time", pairs)
+    # month names with the ordinal suffixes of other languages (1er, 1º) and weekday names
+    pairs = []
+    for _ in range(n // 2):
+        d = _date(rng, 1950, 2030)
+        locale = rng.choice(["fr", "es", "pt"])
+        day = str(d.day)
+        if d.day == 1:
+            day = "1er" if locale == "fr" else "1º"
+        month = format_date(d, "MMMM", locale=locale)
+        joiner = " " if locale == "fr" else " de "
+        pairs.append((f"{day}{joiner}{month}{joiner}{d.year}", _at(d), None))
+    yield _text_col("month names with 1er/1º", "event_first", pairs)
+
+
+def mixed_zones_and_flags(rng: random.Random, n: int) -> Iterator[LabelledColumn]:
+    # Naive and aware values in one column (the column should be flagged; each value keeps
+    # what it says), plus values that must be flagged: a leap second, ISO week 53 of a year
+    # with 52 weeks, hour 25, minute 60.
+    pairs: list[tuple[str, dt.datetime | None, int | None]] = []
+    for _ in range(n // 2):
+        t = _datetime(rng)
+        if rng.random() < 0.5:
+            pairs.append((t.isoformat(timespec="seconds"), t, None))
+        else:
+            off = rng.choice([0, 60, -300])
+            aware = t.replace(tzinfo=dt.timezone(dt.timedelta(minutes=off)))
+            pairs.append((aware.isoformat(timespec="seconds"), t, off))
+    bad = [
+        "1990-12-31T23:59:60Z",
+        "2016-12-31T23:59:60+00:00",
+        "2021-03-04T25:00:00",
+        "2021-03-04T10:60:00",
+        "2022-02-29T10:00:00",
+        "2023-04-31T08:00:00+02:00",
+    ]
+    for text in bad:
+        pairs[rng.randrange(len(pairs))] = (text, None, None)
+    yield _text_col("mixed naive/aware and flags", "signed_at", pairs)
+    weeks = []
+    for _ in range(n // 2):
+        d = _date(rng, 1990, 2030)
+        y, w, wd = d.isocalendar()
+        weeks.append((f"{y:04d}-W{w:02d}-{wd}", _at(d), None))
+    for text in ["2021-W53-1", "2019-W53-3", "2022-W00-1", "2020-W54-1", "2020-W10-8"]:
+        weeks[rng.randrange(len(weeks))] = (text, None, None)
+    yield _text_col("iso week with impossible weeks", "training_week", weeks)
+    values: list[object] = []
+    truth: list[dt.datetime | None] = []
+    for _ in range(n // 2):
+        d = _date(rng, 1995, 2030)
+        values.append((_at(d) - dt.datetime(1899, 12, 30)).days)
+        truth.append(_at(d))
+    values[rng.randrange(len(values))] = 60  # 1900-02-29: no such day (ISO/IEC 29500 §18.17.4)
+    truth = [None if v == 60 else t for v, t in zip(values, truth)]
+    yield LabelledColumn(
+        "serial 1900 with serial 60",
+        "paid_legacy",
+        values,
+        [CellKind.INT] * len(values),
+        truth,
+        [None] * len(values),
+        SourceFacts(format="xlsx"),
+    )
+
+
 FAMILIES: tuple[Callable[[random.Random, int], Iterator[LabelledColumn]], ...] = (
     iso_dates,
     iso_datetimes,
@@ -471,6 +604,10 @@ FAMILIES: tuple[Callable[[random.Random, int], Iterator[LabelledColumn]], ...] =
     placeholders,
     noisy,
     mixed,
+    contradicting,
+    not_dates,
+    harder_forms,
+    mixed_zones_and_flags,
 )
 
 

@@ -7,6 +7,18 @@ texts still unread (``fields.read_pattern``); the first pattern that reads a tex
 and a text no pattern reads keeps the reason given by the first pattern whose shape it had.
 Results go back to the cells through the factorisation codes. Real date cells from a workbook
 are kept as they are.
+
+A spec by hand (pattern ids are listed in ``patterns.py``)::
+
+    spec = ParseSpec(
+        patterns=("num-slash", "iso-date", "serial"),  # tried in this order
+        day_order="dmy",          # or "mdy"; None leaves 3/4/2024 AMBIGUOUS
+        century="past", pivot_year=2026,  # two-digit years never after 2026
+        date_system=1900,         # serials; 1904 for workbooks in that system
+        zone="UTC",               # move values with an offset to UTC (None keeps them)
+        blank_tokens=("n/a", "unknown"),
+    )
+    parsed = parse_column(column, spec)   # ParsedColumn: value, state, pattern, reason …
 """
 
 from __future__ import annotations

@@ -21,7 +21,7 @@ from datemend.core import export_flat, export_stream
 from datemend.core.clean import CellState, CleanTable, ParsedColumn
 from datemend.core.export import ExportError, ExportOptions, export_table
 from datemend.core.progress import Cancelled, Progress
-from datemend.core.table import RawTable, SourceFacts
+from datemend.core.table import RawColumn, RawTable, SourceFacts, kinds_of
 
 INJECTION = ["=1+1", "@SUM(A1)", "+1-2", "-3+4", '=HYPERLINK("http://x")', "plain"]
 
@@ -376,3 +376,44 @@ def test_too_many_rows_for_a_sheet_is_refused(tmp_path, monkeypatch):
         export_table(table, tmp_path / "big.xlsx")
     export_table(table, tmp_path / "big.csv")  # CSV has no such limit
     assert _leftovers(tmp_path, {"big.csv"}) == []
+
+
+BAD_TEXT = [
+    ("a\x00b", "a\ufffdb", "NUL: not an XML 1.0 character (§2.2)"),
+    ("x\x1fy", "x\ufffdy", "unit separator: C0 control"),
+    ("lone \udc80 surrogate", "lone \ufffd surrogate", "a lone surrogate (bad decoding)"),
+    ("end\uffff", "end\ufffd", "U+FFFF is not a character"),
+    ("tab\tand\nline", "tab\tand\nline", "tab and line feed are allowed"),
+]
+
+
+def test_bad_text_rows_have_no_repeats():
+    assert len({b[0] for b in BAD_TEXT}) == len(BAD_TEXT)
+
+
+def test_text_xml_cannot_hold_is_replaced_streaming(tmp_path):
+    texts = [b[0] for b in BAD_TEXT]
+    raw = RawTable(
+        (RawColumn("Note", np.array(texts, dtype=object), kinds_of(texts)),),
+        SourceFacts(format="csv"),
+    )
+    out = tmp_path / "out.xlsx"
+    opts = ExportOptions(log_sheet=True)
+    result = export_table(CleanTable(raw), out, options=opts, log_lines=texts)
+    wb = openpyxl.load_workbook(out)
+    assert [c.value for c in wb["Data"]["A"][1:]] == [b[1] for b in BAD_TEXT]
+    assert [c.value for c in wb["Fix log"]["B"][1:]] == [b[1] for b in BAD_TEXT]
+    assert any("control characters" in n for n in result.notes)
+    export_table(
+        CleanTable(raw), tmp_path / "out.csv", options=ExportOptions(csv_formula_guard=True)
+    )
+
+
+def test_text_xml_cannot_hold_is_replaced_workbook(book, tmp_path):
+    _, table, _ = book
+    out = tmp_path / "out.xlsx"
+    texts = [b[0] for b in BAD_TEXT]
+    result = export_table(table, out, options=ExportOptions(log_sheet=True), log_lines=texts)
+    wb = openpyxl.load_workbook(out)
+    assert [c.value for c in wb["Fix log"]["B"][1:]] == [b[1] for b in BAD_TEXT]
+    assert any("control characters" in n for n in result.notes)

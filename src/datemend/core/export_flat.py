@@ -197,11 +197,15 @@ def _series_text(s: pd.Series) -> np.ndarray:
 
 
 def _guard(text: np.ndarray, is_text: np.ndarray) -> np.ndarray:
-    s = pd.Series(text, dtype="string")
-    hit = s.str.startswith(_GUARD).fillna(False).to_numpy(dtype=bool) & is_text
+    try:
+        s = pd.Series(text, dtype="string")
+        hit = s.str.startswith(_GUARD).fillna(False).to_numpy(dtype=bool)
+    except UnicodeEncodeError:  # lone surrogates: one by one
+        hit = np.array([isinstance(t, str) and t.startswith(_GUARD) for t in text], dtype=bool)
+    hit &= is_text
     if hit.any():
         text = text.copy()
-        text[hit] = "'" + s[hit].to_numpy(dtype=object)
+        text[hit] = "'" + text[hit]
     return text
 
 

@@ -32,8 +32,10 @@ __all__ = ["write_stream"]
 
 Counts = tuple[int, int, int, int, list[str]]
 _ROWS = 50_000  # rows per chunk of sheet XML
-# Characters XML 1.0 cannot hold (same set openpyxl refuses).
-_ILLEGAL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f]")
+# Characters XML 1.0 cannot hold (§2.2 Char): C0 controls but tab/LF/CR, lone surrogates, and
+# U+FFFE/U+FFFF.
+_ILLEGAL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ud800-\udfff\ufffe\uffff]")
+_ILLEGAL_NO_SURROGATES = "[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]"  # for pyarrow strings
 # cellXfs indexes in styles.xml
 _S_DATE, _S_DATETIME, _S_RAW_DATE, _S_RAW_DATETIME, _S_TIME = 1, 2, 3, 4, 5
 _FIRST_DAY = np.datetime64("1900-01-01", "D")
@@ -71,14 +73,25 @@ def _refs(letter: str, rows: np.ndarray) -> np.ndarray:
 
 
 def _text_cells(refs: np.ndarray, text: np.ndarray, tally: _Tally) -> np.ndarray:
-    s = pd.Series(text, dtype=object).astype(str)
-    bad = s.str.contains(_ILLEGAL, regex=True).to_numpy(dtype=bool)
-    if bad.any():
-        tally.replaced += int(bad.sum())
-        s[bad] = s[bad].str.replace(_ILLEGAL, "\ufffd", regex=True)
-    s = s.str.replace("&", "&amp;").str.replace("<", "&lt;").str.replace(">", "&gt;")
-    body = s.to_numpy(dtype=object)
+    try:  # vectorised (pyarrow strings); lone surrogates cannot enter them
+        s = pd.Series(text, dtype=object).astype(str)
+    except UnicodeEncodeError:
+        body = np.array([_escape_one(str(t), tally) for t in text], dtype=object)
+    else:
+        bad = s.str.contains(_ILLEGAL_NO_SURROGATES, regex=True).to_numpy(dtype=bool)
+        if bad.any():
+            tally.replaced += int(bad.sum())
+            s[bad] = s[bad].str.replace(_ILLEGAL_NO_SURROGATES, "\ufffd", regex=True)
+        s = s.str.replace("&", "&amp;").str.replace("<", "&lt;").str.replace(">", "&gt;")
+        body = s.to_numpy(dtype=object)
     return refs + '" t="inlineStr"><is><t xml:space="preserve">' + body + "</t></is></c>"
+
+
+def _escape_one(t: str, tally: _Tally) -> str:
+    if _ILLEGAL.search(t):
+        tally.replaced += 1
+        t = _ILLEGAL.sub("\ufffd", t)
+    return escape(t)
 
 
 def _number_cells(refs: np.ndarray, text: np.ndarray, style: int = 0) -> np.ndarray:
@@ -116,7 +129,7 @@ def raw_cells(values: np.ndarray, kinds: np.ndarray, refs: np.ndarray, tally: _T
         if kind == CellKind.TEXT:
             out[m] = _text_cells(r, v, tally)
         elif kind == CellKind.ERROR:
-            body = pd.Series(v, dtype=object).astype(str).map(escape).to_numpy(dtype=object)
+            body = np.array([_escape_one(str(x), tally) for x in v], dtype=object)
             out[m] = r + '" t="e"><v>' + body + "</v></c>"
         elif kind == CellKind.INT:
             out[m] = _number_cells(r, pd.Series(v, dtype=object).astype(str).to_numpy(object))

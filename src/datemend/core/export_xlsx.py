@@ -15,7 +15,7 @@ from typing import Any
 
 import numpy as np
 import openpyxl
-from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE, MergedCell
+from openpyxl.cell.cell import MergedCell
 from openpyxl.comments import Comment
 from openpyxl.utils import get_column_letter
 from openpyxl.utils.datetime import CALENDAR_MAC_1904
@@ -39,6 +39,11 @@ _REASON = {
 }
 
 
+# Characters XML 1.0 cannot hold (§2.2 Char): C0 controls but tab/LF/CR (openpyxl refuses those),
+# lone surrogates, and U+FFFE/U+FFFF.
+_BAD_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ud800-\udfff\ufffe\uffff]")
+
+
 class _Text:
     """Counts strings that had characters an XLSX file cannot hold (replaced by U+FFFD)."""
 
@@ -46,9 +51,9 @@ class _Text:
         self.replaced = 0
 
     def clean(self, s: str) -> str:
-        if ILLEGAL_CHARACTERS_RE.search(s):
+        if _BAD_XML.search(s):
             self.replaced += 1
-            return ILLEGAL_CHARACTERS_RE.sub("\ufffd", s)
+            return _BAD_XML.sub("\ufffd", s)
         return s
 
     def note(self) -> list[str]:

@@ -589,3 +589,16 @@ def test_open_recent_reopens_a_file(qtbot, window, small_csv):
     with qtbot.waitSignal(window.document_ready, timeout=20_000):
         action.trigger()
     assert window.path == small_csv
+
+
+def test_an_undecidable_order_points_at_the_choice(qtbot, window, tmp_path):
+    p = tmp_path / "outings.csv"
+    # Every value has both fields ≤ 12, so day/month order cannot be decided from the data
+    # (REFERENCES.md: common practice, no source).
+    p.write_text("Member no,Last outing\nR1,05/10/2026\nR2,08/10/2026\nR3,09/09/2026\n")
+    adopt(window, p)
+    window.columns.choose("Last outing")
+    best = window.session.report("Last outing").best
+    assert best is not None and best.decisions.get("day_order") == "undecided"
+    assert window.readings.undecided.isVisibleTo(window.readings)
+    assert "day and month" in window.readings.undecided.text()

@@ -1,8 +1,10 @@
 """Long work off the GUI thread: a Job runs ``fn(progress)`` in a QThread and reports back.
 
 The work itself is a plain core function taking a ``core.progress.Progress``; the Job only moves
-its progress and its outcome to the GUI thread. The outcome signals are emitted after the thread
-has finished, so whoever waits on them never sees a thread still running.
+its progress and its outcome to the GUI thread. No Python signal is emitted from the worker: it
+only leaves its latest progress under a lock, which a timer on the GUI thread passes on (at most
+20 times a second), so connecting to a Job while it runs is safe. The outcome signals are emitted
+after the thread has finished, so whoever waits on them never sees a thread still running.
 
 Signals of Job:
     progressed(int, int, str): done, total, text (from the work's Progress.report).
@@ -14,11 +16,12 @@ Signals of Job:
 
 from __future__ import annotations
 
+import threading
 import weakref
 from collections.abc import Callable
 from typing import Any
 
-from PySide6.QtCore import QObject, QThread, Signal
+from PySide6.QtCore import QObject, QThread, QTimer, Signal
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QProgressBar, QPushButton, QWidget
 
 from ..core.progress import Cancelled, Progress
@@ -67,15 +70,29 @@ class Job(QObject):
         super().__init__(parent)
         self.title = title
         self.progress = Progress(self._report)
+        self._lock = threading.Lock()
+        self._latest: tuple[int, int, str] | None = None
+        self._poll = QTimer(self)
+        self._poll.setInterval(50)
+        self._poll.timeout.connect(self._flush)
         self._thread = _Thread(fn, self.progress)
         _THREADS.add(self._thread)
         self._thread.finished.connect(self._deliver)
 
     def _report(self, done: int, total: int, text: str) -> None:
-        self.progressed.emit(int(done), int(total), str(text))
+        # Runs on the worker thread: store only; the GUI thread's timer passes it on.
+        with self._lock:
+            self._latest = (int(done), int(total), str(text))
+
+    def _flush(self) -> None:
+        with self._lock:
+            latest, self._latest = self._latest, None
+        if latest is not None:
+            self.progressed.emit(*latest)
 
     def start(self) -> None:
         _RUNNING.add(self)
+        self._poll.start()
         self._thread.start()
 
     def cancel(self) -> None:
@@ -90,6 +107,8 @@ class Job(QObject):
         return self._thread.wait(ms)
 
     def _deliver(self) -> None:
+        self._poll.stop()
+        self._flush()
         _RUNNING.discard(self)
         err = self._thread.error
         if isinstance(err, Cancelled):

@@ -181,6 +181,11 @@ class ReadingsPanel(QWidget):
         choices.addRow("Serial numbers:", self.date_system)
         choices.addRow("Zone:", self.zone)
 
+        self.undecided = QLabel()
+        self.undecided.setWordWrap(True)
+        self.undecided.setStyleSheet(f"color: {OKABE_ITO['vermillion']}")
+        self.undecided.setVisible(False)
+
         self.blank_button = QPushButton()
         self.blank_button.setVisible(False)
         self.blank_button.clicked.connect(self._blank)
@@ -199,6 +204,7 @@ class ReadingsPanel(QWidget):
         lay.addWidget(title)
         lay.addWidget(self.summary)
         lay.addLayout(choices)
+        lay.addWidget(self.undecided)
         lay.addWidget(self.blank_button)
         lay.addWidget(scroll, 1)
 
@@ -212,7 +218,20 @@ class ReadingsPanel(QWidget):
         if report is None:
             self.summary.setText("Pick a column to see the ways it can be read.")
             self.blank_button.setVisible(False)
+            self.undecided.setVisible(False)
             return
+        best = report.best
+        open_choices = [
+            _CHOICE_WORDS.get(k, k)
+            for k, v in (best.decisions.items() if best is not None else ())
+            if v == "undecided"
+        ]
+        self.undecided.setText(
+            "? The data cannot decide "
+            + ", ".join(open_choices)
+            + " here: those cells stay unclear until you choose above."
+        )
+        self.undecided.setVisible(bool(open_choices))
         like = f"{100 * report.likeness:.0f}%"
         self.summary.setText(
             report.summary

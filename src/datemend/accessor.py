@@ -11,6 +11,10 @@ namespace behind the user's back::
     clean = df.datemend.apply("roster.datemend.json")   # a saved fix log -> DataFrame
     df.datemend.replay("roster.datemend.json")          # the drift report first
 
+For a workbook, ``datemend.read_table("roster.xlsx").to_dataframe()`` gives a frame whose cells
+keep their kinds (date cells as datetimes, serial numbers as numbers), exactly as the window and
+the command line see them.
+
 Nothing here imports Qt. The same core calls run behind the window and the command line, so a
 log applied here gives the same values as ``datemend replay``.
 """

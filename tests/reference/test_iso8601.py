@@ -153,3 +153,24 @@ def test_impossible_calendar_dates_fail() -> None:
         assert r.reason(i), r.describe(i)
     assert r.value(3) == as_us(dt.date(2024, 2, 29)), r.describe(3)
     assert r.value(4) == as_us(dt.date(2023, 3, 1)), r.describe(4)
+
+
+def test_comma_as_decimal_sign() -> None:
+    # ISO 8601 (value from memory: the decimal sign is a comma or a full stop, the comma
+    # preferred): 23:20:50,52 is 23:20:50.52.
+    values = ["1985-04-12T23:20:50,52", "1985-04-12T23:20:50.52", "1999-12-31T23:59:59"]
+    r = run(values)
+    for i in range(2):
+        assert r.state(i) == CellState.PARSED, r.describe(i)
+        assert r.value(i) == as_us(dt.datetime(1985, 4, 12, 23, 20, 50, 520000)), r.describe(i)
+
+
+def test_end_of_day_24_00() -> None:
+    # ISO 8601:2004 (value from memory): 24:00:00 is the end of the day, the same instant as
+    # 00:00:00 of the next day. Read so, or flagged: never the start of the same day.
+    values = ["1985-04-12T24:00:00", "1985-04-12T23:20:50", "1999-12-31T23:59:59"]
+    r = run(values)
+    if r.state(0) == CellState.PARSED:
+        assert r.value(0) == as_us(dt.datetime(1985, 4, 13)), r.describe(0)
+    else:
+        assert r.reason(0), r.describe(0)

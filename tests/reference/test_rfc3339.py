@@ -111,3 +111,14 @@ def test_section_5_6_notes(value: str) -> None:
     assert r.state(0) == CellState.PARSED, r.describe(0)
     assert r.offset(0) == 0, r.describe(0)
     assert r.utc(0) == as_us(EXAMPLES[0][3]), r.describe(0)
+
+
+def test_unknown_local_offset() -> None:
+    # RFC 3339 §4.3 (value from memory): "-00:00" says the time is in UTC but the local offset is
+    # unknown; the instant is the same as with "Z". Read as that instant, or flagged with a reason.
+    values = ["1985-04-12T23:20:50.52-00:00", "1996-12-19T16:39:57-08:00", "2001-09-09T01:46:40Z"]
+    r = run(values)
+    if r.state(0) == CellState.PARSED:
+        assert r.utc(0) == as_us(EXAMPLES[0][3]), r.describe(0)
+    else:
+        assert r.reason(0), r.describe(0)

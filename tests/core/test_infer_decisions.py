@@ -150,3 +150,17 @@ def test_compact_digits_decided_by_evidence() -> None:
     assert "compact-dmy" in best.spec.patterns and not best.spec.rivals
     parsed = parse_column(c, best.spec)
     assert parsed.value[1] == np.datetime64("2024-02-01", "us")
+
+
+def test_number_read_plausibly_by_a_later_reading_stays_ambiguous() -> None:
+    # '121603' is serial 1900 → 2232-12-07 (implausible) or MMDDYY → 2003-12-16; the serial
+    # cell 54296.87 (2048-08-26 20:52:48, datetime arithmetic) reads only as a serial.
+    values: list[object] = ["121603", 54296.87, "12/25/2023"]
+    arr = np.empty(3, dtype=object)
+    arr[:] = values
+    c = RawColumn("c", arr, kinds_of(arr))
+    best = scan_column(c, reference_year=2026).best
+    parsed = parse_column(c, best.spec)
+    assert parsed.state.tolist() == [CellState.AMBIGUOUS, CellState.PARSED, CellState.PARSED]
+    assert "2232-12-07" in parsed.reason[0] and "2003-12-16" in parsed.reason[0]
+    assert any("fit both serial 1900 and MMDDYY" in w for w in best.warnings)

@@ -415,9 +415,25 @@ def choose_patterns(c: Census, ref_year: int) -> list[str]:
                     "decides; values they read differently stay ambiguous"
                 )
         group = c.rivals if (not digits and c.rivals) else [best]
+        if digits:
+            # A later reading that makes sense of values an earlier one reads only
+            # implausibly (121603: serial 2232-12-07, or MMDDYY 2003-12-16) competes with it
+            # there: those values stay ambiguous rather than go to whichever comes first.
+            mine = plausible(best, left)
+            for d in digits:
+                if (mine & c.readings[d].ok).any() and best not in c.rivals:
+                    for g in (d, best):
+                        if g not in c.rivals:
+                            c.rivals.append(g)
+                    n = _n(c.weights[mine & c.readings[d].ok].sum())
+                    c.notes_warn.append(
+                        f"{n} numbers fit both {label(d, date_system=c.facts.date_system)} and "
+                        f"{label(best, date_system=c.facts.date_system)}; where the two give "
+                        "different dates they stay ambiguous"
+                    )
         digits.extend(group)
         for g in group:
-            left &= ~c.readings[g].ok
+            left &= ~plausible(g, left)
     if not digits and (c.digit & live).any():
         # Numbers but none plausible: keep the serial reading so each one gets a reason.
         digits.append("serial")

@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import datetime as dt
 import email.utils
+import os
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -274,7 +275,9 @@ def check_column(
 
 
 SETTINGS = settings(
-    max_examples=30,  # a scan costs up to a second; keep the file well under a minute
+    # a scan costs up to a second: 30 keeps the file well under a minute; set
+    # DATEMEND_PROPERTY_EXAMPLES for a longer campaign
+    max_examples=int(os.environ.get("DATEMEND_PROPERTY_EXAMPLES", "30")),
     deadline=None,
     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large],
     # no shrinking (each example costs a scan); the failure message names the whole column

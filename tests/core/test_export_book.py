@@ -8,6 +8,7 @@ the export tests pass by accident.
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import hashlib
 import re
@@ -78,9 +79,20 @@ OUTING = [
 ]
 
 
+_BUILT: dict[bool, bytes] = {}  # the same bytes every time: build once per test run
+
+
 def build_book(path: Path, *, epoch1904: bool = False) -> Path:
     """Three sheets, a merged title, merged data cells, widths, number formats, an error cell,
     formulas with and without cached values, text that looks like formulas."""
+    if epoch1904 not in _BUILT:
+        _build(path, epoch1904=epoch1904)
+        _BUILT[epoch1904] = path.read_bytes()
+    path.write_bytes(_BUILT[epoch1904])
+    return path
+
+
+def _build(path: Path, *, epoch1904: bool) -> None:
     wb = openpyxl.Workbook()
     if epoch1904:
         wb.epoch = CALENDAR_MAC_1904
@@ -129,7 +141,6 @@ def build_book(path: Path, *, epoch1904: bool = False) -> Path:
     # program would, and leave the others without.
     _cache_values(path, {"xl/worksheets/sheet1.xml": {"D3": "80", "D6": "92.5"}})
     _cache_values(path, {"xl/worksheets/sheet2.xml": {"B3": "111.5"}})
-    return path
 
 
 def _cache_values(path: Path, patch: dict[str, dict[str, str]]) -> None:
@@ -152,9 +163,23 @@ def sha256(path: Path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 
 
+_READ: dict[tuple[str, str, int], RawTable] = {}
+
+
 def raw_table(path: Path, sheet: str = "Members", header_row: int = HEADER_ROW) -> RawTable:
     """What a reader makes of the sheet: cached values, kinds from the Python types, error cells
-    marked as errors."""
+    marked as errors. Tables are immutable, so one read per distinct file content is kept."""
+    key = (sha256(path), sheet, header_row)
+    if key not in _READ:
+        _READ[key] = _read(path, sheet, header_row)
+    table = _READ[key]
+    facts = dataclasses.replace(
+        table.facts, path=str(path), format="xlsm" if path.suffix == ".xlsm" else "xlsx"
+    )
+    return RawTable(table.columns, facts, table.source_rows)
+
+
+def _read(path: Path, sheet: str, header_row: int) -> RawTable:
     wb = openpyxl.load_workbook(path, data_only=True)
     ws = wb[sheet]
     names = [str(c.value) for c in ws[header_row] if c.value is not None]

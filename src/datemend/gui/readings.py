@@ -146,6 +146,7 @@ class ReadingsPanel(QWidget):
         self.setObjectName("readings")
         self.report: ColumnReport | None = None
         self.cards: list[_Card] = []
+        self._tokens: tuple[str, ...] = ()
         self.summary = QLabel("Pick a column to see the ways it can be read.")
         self.summary.setWordWrap(True)
 
@@ -237,18 +238,27 @@ class ReadingsPanel(QWidget):
             report.summary
             or f"{report.column}: looks {like} like dates; {report.blank:,} empty cells."
         )
-        if report.placeholders:
-            toks = ", ".join(f"“{t}” ({n})" for t, n in report.placeholders)
-            self.blank_button.setText(f"Treat as blank: {toks}")
-            self.blank_button.setToolTip("Records one step that turns these tokens to blank.")
-            self.blank_button.setVisible(True)
-        else:
-            self.blank_button.setVisible(False)
+        self._tokens: tuple[str, ...] = ()
+        self.set_blank_state(read=False, blank=set())
         for i, s in enumerate(report.suggestions, start=1):
             card = _Card(i, s, self._cards_box)
             card.use.clicked.connect(lambda _=False, s=s: self._use(s))
             self._cards_lay.insertWidget(len(self.cards), card)
             self.cards.append(card)
+
+    def set_blank_state(self, read: bool, blank: set[str]) -> None:
+        """Offer "Treat as blank" for the scan's placeholder tokens the fix log does not blank yet,
+        once the column is read (before that, a reading's own blank tokens cover them)."""
+        places = self.report.placeholders if self.report is not None else ()
+        todo = tuple((t, n) for t, n in places if t.strip().casefold() not in blank)
+        self._tokens = tuple(t for t, _ in todo)
+        if read and todo:
+            toks = ", ".join(f"“{t}” ({n})" for t, n in todo)
+            self.blank_button.setText(f"Treat as blank: {toks}")
+            self.blank_button.setToolTip("Records one step that turns these tokens to blank.")
+            self.blank_button.setVisible(True)
+        else:
+            self.blank_button.setVisible(False)
 
     def spec_for(self, s: Suggestion) -> ParseSpec:
         """The suggestion's spec with the panel's explicit choices laid over it."""
@@ -279,5 +289,5 @@ class ReadingsPanel(QWidget):
         (self.cards[0].use if self.cards else self.day_order).setFocus()
 
     def _blank(self) -> None:
-        if self.report is not None and self.report.placeholders:
-            self.blank_requested.emit(tuple(t for t, _ in self.report.placeholders))
+        if self._tokens:
+            self.blank_requested.emit(self._tokens)

@@ -335,6 +335,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
             self._refresh_columns()
             self._refresh_log()
             self._show_cells(keep_filter=True)
+            self._refresh_blank_offer()
             warnings = s.clean.warnings
             if warnings:
                 self.say(warnings[-1])
@@ -387,6 +388,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         self.column = name
         if name in s.raw:
             self.readings.set_report(s.report(name))
+            self._refresh_blank_offer()
         else:
             self.readings.set_report(None)
             note = s.clean.derived[name].note
@@ -394,6 +396,11 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
                 f"“{name}” is worked out by the fix log." + (f" {note}" if note else "")
             )
         self._show_cells(keep_filter=not changed)
+
+    def _refresh_blank_offer(self) -> None:
+        s, col = self.session, self.column
+        if s is not None and col is not None and col in s.raw:
+            self.readings.set_blank_state(col in s.clean.parsed, s.log.blank_tokens(col))
 
     def _show_cells(self, keep_filter: bool) -> None:
         s = self.session

@@ -174,3 +174,22 @@ def test_end_of_day_24_00() -> None:
         assert r.value(0) == as_us(dt.datetime(1985, 4, 13)), r.describe(0)
     else:
         assert r.reason(0), r.describe(0)
+
+
+@pytest.mark.parametrize(
+    ("value", "exists"),
+    [("1900-02-29", False), ("2000-02-29", True), ("2100-02-29", False), ("2024-02-29", True)],
+)
+def test_gregorian_leap_years(value: str, exists: bool) -> None:
+    # ISO 8601 uses the Gregorian calendar: century years are leap only when divisible by 400
+    # (calendar.isleap is the reference library).
+    import calendar
+
+    assert calendar.isleap(int(value[:4])) == exists
+    r = run([value, "2023-03-01", "1999-12-31"])
+    if exists:
+        assert r.state(0) == CellState.PARSED, r.describe(0)
+        assert r.value(0) == as_us(dt.date.fromisoformat(value)), r.describe(0)
+    else:
+        assert r.state(0) in (CellState.FAILED, CellState.AMBIGUOUS), r.describe(0)
+        assert r.reason(0), r.describe(0)

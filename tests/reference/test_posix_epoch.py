@@ -101,3 +101,27 @@ def test_an_id_column_is_not_taken_for_epoch_dates() -> None:
     ids = list(range(1001, 1101))
     r = run(ids, kinds=[CellKind.INT] * len(ids), name="member id")
     assert not r.report.is_date, r.report
+
+
+def test_before_the_epoch() -> None:
+    # RFC 5322 App. A.3 gives −27723426 for 1969-02-14T03:02:54Z (Thu, 13 Feb 1969 23:32:54
+    # −0330); POSIX seconds count back from 1970 the same way. Read so, or flagged — never wrapped.
+    values = [-27723426, *FILLERS]
+    r = run(values, kinds=[CellKind.INT] * len(values))
+    want = dt.datetime(1969, 2, 14, 3, 2, 54)
+    assert posix_seconds(want) == -27723426
+    if r.state(0) == CellState.PARSED:
+        assert r.utc(0) == as_us(want), r.describe(0)
+    else:
+        assert r.reason(0), r.describe(0)
+
+
+def test_after_year_9999_is_flagged() -> None:
+    # POSIX formula: 253402300800 s is 10000-01-01T00:00:00Z, past what datetime holds; in a
+    # column of milliseconds that is 253402300800000, which no reading makes a date.
+    assert posix_seconds(dt.datetime(9999, 12, 31, 23, 59, 59)) == 253402300799
+    values = [253402300800000, *[f * 1000 for f in FILLERS]]
+    r = run(values, kinds=[CellKind.INT] * len(values))
+    assert r.parsed is not None
+    assert r.state(0) != CellState.PARSED, r.describe(0)
+    assert r.reason(0), r.describe(0)

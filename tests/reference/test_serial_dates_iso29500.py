@@ -196,3 +196,22 @@ def test_date_cells_from_a_workbook_are_kept() -> None:
     for i, v in enumerate(values):
         assert r.state(i) == CellState.PARSED, r.describe(i)
         assert r.value(i) == as_us(v), r.describe(i)
+
+
+@pytest.mark.parametrize("serial", [2958466, 3000000, 2958465.9999999])
+def test_serials_past_the_last_day_are_flagged(serial: float) -> None:
+    # §18.17.4: 2958465 is 9999-12-31, the last day the 1900 system holds; anything later is no
+    # date (and must not overflow or wrap). 2958465.9999999 is still 9999-12-31 (23:59:59.99).
+    r = run(
+        [serial],
+        kinds=[_kind(serial)],
+        spec_from=DECIDING_1900,
+        spec_from_kinds=[CellKind.INT] * len(DECIDING_1900),
+    )
+    assert r.parsed is not None
+    if serial < 2958466:
+        if r.state(0) == CellState.PARSED:
+            assert str(r.value(0))[:10] == "9999-12-31", r.describe(0)
+        return
+    assert r.state(0) in (CellState.FAILED, CellState.AMBIGUOUS), r.describe(0)
+    assert r.reason(0), r.describe(0)

@@ -14,6 +14,7 @@ columns of 200+ cells. At least 10,000 values per run. Invariants (issue 9; clea
 from __future__ import annotations
 
 import datetime as dt
+import os
 import random
 from dataclasses import replace
 
@@ -27,7 +28,8 @@ from datemend.core.parse import parse_column
 from datemend.core.spec import ParseSpec
 from datemend.core.table import CellKind, RawColumn, kinds_of
 
-EXAMPLES = 20
+# DATEMEND_PROPERTY_EXAMPLES raises the count for a longer campaign
+EXAMPLES = int(os.environ.get("DATEMEND_PROPERTY_EXAMPLES", "20"))
 PER_COLUMN = 520  # 20 × 520 = 10,400 values a run (a scan costs about a second: few, long columns)
 
 MONTHS = ["jan", "February", "MARS", "März", "févr.", "dic", "mei", "ago.", "Sept", "okt"]

@@ -85,3 +85,10 @@ def test_ordinal_rows_unique() -> None:
 def test_ordinal_suffix_is_stripped(raw: str, want: str) -> None:
     # Python's re and pyarrow's RE2 agree on this expression; Python's re is used here.
     assert re.sub(names.ORDINAL_SUFFIX_RE, r"\1\2", raw + " ").strip() == want
+
+
+def test_prefixes_of_long_names() -> None:
+    # Prefixes of CLDR wide names (3+ letters): "Tues" of Tuesday, "Sept"/"Septem" of September.
+    assert names.weekday_lookup(("en",))["tues"] == 1
+    assert names.month_lookup(("en",))["septem"] == 9
+    assert "ju" not in names.month_lookup(("en",))  # too short to be a prefix

@@ -6,6 +6,10 @@ variants of them (British English writes "Sept", European Portuguese differs fro
 Each name is also kept case-folded, without trailing dots and without accents, because exports
 carry all of those ("févr.", "FEVR", "fevr").
 
+A long name's prefixes of three letters or more are accepted too ("Tues", "Thurs", "Sept"),
+unless a prefix would name two different months (or weekdays) in the chosen languages: such a
+token reads nothing rather than one of them.
+
 Ordinal suffixes (1st, 2nd, 1er, 1º, 8ste) are not names; ``ORDINAL_SUFFIX_RE`` strips them.
 """
 
@@ -83,6 +87,16 @@ def weekday_names(language: str) -> dict[int, tuple[str, ...]]:
     return {k: tuple(v) for k, v in found.items()}
 
 
+def _with_prefixes(form: str) -> set[str]:
+    """The name's variants and, for a long name, its prefixes of three letters or more: "Tues",
+    "Thurs", "Sept", "Janv" shorten CLDR's wide names the way people do."""
+    out = _variants(form)
+    for v in list(out):
+        if v.isalpha() and len(v) > 4:
+            out |= {v[:k] for k in range(3, len(v))}
+    return out
+
+
 def _lookup(
     languages: tuple[str, ...], source: object
 ) -> tuple[dict[str, int], dict[str, tuple[str, ...]]]:
@@ -93,7 +107,7 @@ def _lookup(
         names = source(lang)  # type: ignore[operator]
         for num, forms in names.items():
             for form in forms:
-                for v in _variants(form):
+                for v in _with_prefixes(form):
                     if v in table and table[v] != num:
                         clash.add(v)
                     table.setdefault(v, num)

@@ -344,3 +344,21 @@ def test_csv_guard_covers_derived_text_only(club, tmp_path):
     assert t["Label"].to_pylist()[:3] == ["'=odd", "", "q1"]
     assert t["Delta"].to_pylist()[0] == "-5"
     assert t["Note"].to_pylist()[:4] == ["'=1+1", "'@SUM(A1)", "'+44 20 7946 0000", "'-5"]
+
+
+def test_csv_in_small_chunks_is_the_same_file(club, tmp_path, monkeypatch):
+    from datemend.core import export_flat, export_stream
+
+    _, table = club
+    table = _with_derived(table)
+    opts = ExportOptions(keep_raw=True)
+    export_table(table, tmp_path / "one.csv", options=opts)
+    export_table(table, tmp_path / "one.xlsx", options=ExportOptions(streaming=True))
+    monkeypatch.setattr(export_flat, "_CHUNK", 2)
+    monkeypatch.setattr(export_stream, "_ROWS", 2)
+    export_table(table, tmp_path / "many.csv", options=opts)
+    export_table(table, tmp_path / "many.xlsx", options=ExportOptions(streaming=True))
+    assert (tmp_path / "one.csv").read_bytes() == (tmp_path / "many.csv").read_bytes()
+    a = list(openpyxl.load_workbook(tmp_path / "one.xlsx").active.iter_rows(values_only=True))
+    b = list(openpyxl.load_workbook(tmp_path / "many.xlsx").active.iter_rows(values_only=True))
+    assert a == b and len(a) == table.raw.n_rows + 1

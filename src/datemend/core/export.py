@@ -150,6 +150,20 @@ class DateOut:
     def unresolved(self) -> int:
         return int(self.keep.sum())
 
+    def take(self, rows: slice) -> DateOut:
+        """The same column cut to a run of rows (writers work in chunks)."""
+        return DateOut(
+            self.col,
+            self.ok[rows],
+            self.blank[rows],
+            self.keep[rows],
+            self.local[rows],
+            self.offset[rows],
+            self.date_only,
+            self.aware,
+            self.mixed,
+        )
+
 
 def prepare_dates(col: ParsedColumn, raw_kinds: np.ndarray, options: ExportOptions) -> DateOut:
     """Masks and wall-clock values of one fixed column, vectorised."""

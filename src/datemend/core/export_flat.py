@@ -36,6 +36,16 @@ class FlatColumn:
     dates: DateOut | None = None
     series: pd.Series | None = None
 
+    def take(self, rows: slice) -> FlatColumn:
+        """The same column cut to a run of rows."""
+        return FlatColumn(
+            self.name,
+            None if self.values is None else self.values[rows],
+            None if self.kinds is None else self.kinds[rows],
+            None if self.dates is None else self.dates.take(rows),
+            None if self.series is None else self.series.iloc[rows].reset_index(drop=True),
+        )
+
 
 def flat_layout(
     clean: CleanTable, options: ExportOptions, *, beside: bool, force_raw: bool = False
@@ -213,24 +223,22 @@ def _guard(text: np.ndarray, is_text: np.ndarray) -> np.ndarray:
 
 
 def write_csv(clean: CleanTable, tmp: Path, options: ExportOptions, progress: Progress) -> Counts:
-    """UTF-8 CSV (optional BOM), ISO 8601 dates, unresolved cells as their raw text."""
+    """UTF-8 CSV (optional BOM), ISO 8601 dates, unresolved cells as their raw text. The text of
+    each column is built a chunk of rows at a time, so memory stays flat."""
     layout = flat_layout(clean, options, beside=True)
-    data = {}
-    names = []
-    for j, col in enumerate(layout):
-        data[j] = _column_text(col, options)
-        names.append(col.name)
-        progress.report(j + 1, len(layout) + 1, f'Prepared column "{col.name}"')
+    names = [c.name for c in layout]
     if options.csv_formula_guard:
         names = list(_guard(np.array(names, dtype=object), np.ones(len(names), dtype=bool)))
-    frame = pd.DataFrame(data, dtype=object)
-    frame.columns = names
-    n = len(frame)
+    n = clean.raw.n_rows
     with open(tmp, "w", encoding="utf-8", newline="", errors="replace") as fh:
         if options.bom:
             fh.write("\ufeff")
         for start in range(0, max(n, 1), _CHUNK):
-            frame.iloc[start : start + _CHUNK].to_csv(
+            rows = slice(start, min(start + _CHUNK, n))
+            data = {j: _column_text(col.take(rows), options) for j, col in enumerate(layout)}
+            frame = pd.DataFrame(data, dtype=object)
+            frame.columns = names
+            frame.to_csv(
                 fh,
                 index=False,
                 header=start == 0,
@@ -238,7 +246,7 @@ def write_csv(clean: CleanTable, tmp: Path, options: ExportOptions, progress: Pr
                 lineterminator=options.line_terminator,
                 quoting=csv.QUOTE_MINIMAL,
             )
-            progress.report(min(start + _CHUNK, n), n, "Writing rows")
+            progress.report(rows.stop, n, "Writing rows")
     return n, len(layout), *_tally(layout), _notes(layout, options)
 
 

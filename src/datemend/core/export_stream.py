@@ -330,18 +330,13 @@ def write_stream(
 
 
 def _column_cells(col: FlatColumn, rows: slice, refs: np.ndarray, tally: _Tally) -> np.ndarray:
-    if col.series is not None:
-        return _derived_cells(col.series.iloc[rows], refs, tally)
-    assert col.values is not None and col.kinds is not None
-    values, kinds = col.values[rows], col.kinds[rows]
-    if col.dates is None:
-        return raw_cells(values, kinds, refs, tally)
-    d = col.dates
-    part = DateOut(
-        d.col, d.ok[rows], d.blank[rows], d.keep[rows], d.local[rows], d.offset[rows],
-        d.date_only, d.aware, d.mixed,
-    )  # fmt: skip
-    return date_cells(part, values, kinds, refs, tally)
+    part = col.take(rows)
+    if part.series is not None:
+        return _derived_cells(part.series, refs, tally)
+    assert part.values is not None and part.kinds is not None
+    if part.dates is None:
+        return raw_cells(part.values, part.kinds, refs, tally)
+    return date_cells(part.dates, part.values, part.kinds, refs, tally)
 
 
 def _unresolved(

@@ -16,7 +16,7 @@ from datemend.core.spec import ParseSpec
 from datemend.core.table import RawColumn, kinds_of
 
 ALL = ("en", "fr", "de", "es", "it", "pt", "nl")
-NAMES = ParseSpec(patterns=("rfc5322", "name-dmy", "name-mdy", "name-ymd"), locales=ALL)
+NAMES = ParseSpec(patterns=("rfc5322", "name-dmy", "name-mdy", "name-ymd", "asctime"), locales=ALL)
 
 
 def read(values: list[str], spec: ParseSpec = NAMES) -> list[tuple[str, str]]:
@@ -80,6 +80,8 @@ ROWS = [
     ("21 Nov 1997 09:55:06 EST", "1997-11-21T09:55:06-05:00", "RFC 5322 §4.3: EST is -0500"),
     ("21 Nov 1997 09:55:06 PDT", "1997-11-21T09:55:06-07:00", "RFC 5322 §4.3: PDT is -0700"),
     ("21 Nov 1997 09:55 CDT", "1997-11-21T09:55:00-05:00", "RFC 5322 §4.3: CDT is -0500"),
+    ("Fri Apr 12 10:30:00 1985", "1985-04-12T10:30:00", "ISO C asctime form, year last"),
+    ("Fri Apr 12 10:30:00 UTC 1985", "1985-04-12T10:30:00+00:00", "Unix date(1) form with UTC"),
     ("Sat, 21 Nov 1997 09:55:06 -0600", "FAILED: it says Saturday", "21 Nov 1997 was a Friday"),
 ]
 

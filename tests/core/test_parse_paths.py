@@ -27,6 +27,7 @@ SPEC = ParseSpec(
         "name-dmy",
         "name-mdy",
         "name-ymd",
+        "asctime",
         "num-slash",
         "num-dash",
         "num-dot",

@@ -298,7 +298,7 @@ def unread_patterns(c: Census, full: Census, spec: ParseSpec) -> list[str]:
 def _languages(c: Census) -> tuple[str, ...]:
     """The fewest languages whose CLDR month names cover the month words of the column."""
     rows = np.zeros(len(c.texts), dtype=bool)
-    for p in ("name-dmy", "name-mdy", "name-ymd"):
+    for p in ("name-dmy", "name-mdy", "name-ymd", "asctime"):
         rows |= c.readings[p].ok
     if not rows.any():
         return ("en",)

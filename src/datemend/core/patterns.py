@@ -25,6 +25,7 @@ Pattern ids (JSON-safe, never renamed):
 ``name-dmy``       ``12 April 1985``, ``Fri 12th Apr 85``, ``12-avr.-1985``, ``12. März 1985``
 ``name-mdy``       ``April 12, 1985``, ``Friday, Apr 12th 1985``
 ``name-ymd``       ``1985 Apr 12``, ``1985-apr-12``
+``asctime``        ISO C asctime / Unix log form, year last: ``Fri Apr 12 10:30:00 1985``
 ``rfc5322``        RFC 5322 message date-time: ``Fri, 21 Nov 1997 09:55:06 -0600``, obsolete
                    ``21 Nov 97 09:55:06 GMT`` (UT GMT EST EDT CST CDT MST MDT PST PDT)
 ``serial``         spreadsheet serial day number, 1900 or 1904 system (``ParseSpec.date_system``);
@@ -212,6 +213,14 @@ _ALL = [
         rf"^(?P<y>\d{{4}})[ ./-]?{_NAME}[ ./-]?(?P<d>\d{{1,2}}){_TZ}",
     ),
     Pattern(
+        "asctime",
+        "Www Mmm D hh:mm:ss YYYY",
+        "names",
+        "name",
+        r"^(?:(?P<wd>\pL+) )?(?P<mon>\pL+) (?P<d>\d{1,2}) (?P<H>\d{1,2}):(?P<M>\d{2})"
+        r"(?::(?P<S>\d{2}))?(?: (?P<Z>utc|gmt|z|[ecmp][sd]t))? (?P<y>\d{4})$",
+    ),
+    Pattern(
         "serial",
         "serial",
         "number",
@@ -254,6 +263,7 @@ _NEEDS = {
     "name-dmy": ("alpha",),
     "name-mdy": ("alpha",),
     "name-ymd": ("alpha",),
+    "asctime": ("alpha",),
 }
 
 #: Every pattern by id, in the engine's default priority order.
@@ -415,7 +425,7 @@ def render(
     dd = f"{dt.day:02d}" if pad else str(dt.day)
     mm = f"{dt.month:02d}" if pad else str(dt.month)
     tail = ""
-    if time != "none" and p.id != "rfc5322":
+    if time != "none" and p.id not in ("rfc5322", "asctime"):
         sep = separator if p.id == "iso-date" else " "
         tail = sep + _time_text(dt, time, clock)
         if offset_min is not None:
@@ -467,6 +477,10 @@ def _render_named(
     ordinal: bool,
     offset_min: int | None,
 ) -> str:
+    if pid == "asctime":
+        wd = _bd.get_day_names("abbreviated", "format", "en")[dt.weekday()].rstrip(".")
+        mon = _bd.get_month_names("abbreviated", "format", "en")[dt.month].rstrip(".")
+        return f"{wd} {mon} {dt.day} {dt:%H:%M:%S} {dt.year}"
     if pid == "rfc5322":
         wd = _bd.get_day_names("abbreviated", "format", "en")[dt.weekday()].rstrip(".")
         mon = _bd.get_month_names("abbreviated", "format", "en")[dt.month].rstrip(".")

@@ -9,6 +9,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from datemend.core.clean import CellState
 from datemend.core.fixlog import FixLog, apply_log, auto_fix
@@ -94,6 +96,7 @@ def test_log_facts_hold_ranges_keys_and_known_failures():
     # worked by hand: the earliest read value is 1950-03-04, the latest the hand-set 2010-05-07
     assert src.ranges["Born"] == ("1950-03-04T00:00:00", "2010-05-07T00:00:00")
     assert src.unresolved["Born"] == ("1980-13-45",)
+    assert src.unresolved_shapes["Born"] == ("9999-99-99",)
     assert src.keys == ("M1", "M2", "M3", "M4")
     assert src.columns == ("Member no", "Name", "Born")
     assert FixLog.loads(log.to_json()) == log
@@ -366,3 +369,27 @@ def test_a_log_follows_renamed_columns():
     assert again.missing == () and again.lost_keys == ()
     pc = again.table.parsed["Date of birth"]
     assert list(pc.state) == [CellState.PARSED, CellState.MANUAL]
+
+
+_cell = st.one_of(
+    st.dates(dt.date(1900, 1, 1), dt.date(2099, 12, 31)).map(dt.date.isoformat),
+    st.dates(dt.date(1950, 1, 1), dt.date(2030, 12, 31)).map(lambda d: d.strftime("%d/%m/%Y")),
+    st.sampled_from(["", "n/a", "unknown", "-", "31/04/2026", "soon"]),
+    st.text(alphabet="abcxyz0123456789/-. ", max_size=12),
+)
+
+
+@settings(max_examples=12, deadline=None)
+@given(st.lists(_cell, min_size=1, max_size=60), st.integers(0, 150))
+def test_replay_on_its_own_file_never_drifts(cells, junk):
+    """Whatever the column holds (even more distinct failures than the log keeps values of),
+    a log replayed on the file it was made on finds no drift and the same cells."""
+    cells = cells + [f"junk {i} x{i * 7}" for i in range(junk)]
+    raw = _raw({"Member no": [f"M{i}" for i in range(len(cells))], "When": cells})
+    log, clean = auto_fix(raw)
+    log = FixLog.loads(log.to_json())
+    r = replay(log, raw)
+    assert not r.has_drift, str(r)
+    for name, pc in clean.parsed.items():
+        assert np.array_equal(r.table.parsed[name].value, pc.value, equal_nan=True)
+        assert np.array_equal(r.table.parsed[name].state, pc.state)

@@ -64,6 +64,7 @@ __all__ = [
     "fixlog_schema",
     "load_step_kinds",
     "parsed_ranges",
+    "unresolved_shapes",
     "unresolved_values",
 ]
 
@@ -113,8 +114,9 @@ class LogSource:
 
     ``ranges``: for each parsed source column, the earliest and latest date read or set by hand
     (ISO 8601), so replay can point at values far outside them. ``unresolved``: the distinct raw
-    values (at most ``MAX_UNRESOLVED`` per column) no pattern read in the source, so replay tells
-    a failure already known from a new one. ``keys``: the key column's values when the table
+    values (the ``MAX_UNRESOLVED`` most frequent per column) no pattern read in the source, and
+    ``unresolved_shapes`` the shapes of all of them, so replay tells a failure already known from
+    a new one. ``keys``: the key column's values when the table
     has at most ``MAX_KEYS`` rows, so replay can say which rows are new and which are gone.
     """
 
@@ -126,6 +128,7 @@ class LogSource:
     date_system: int | None = None
     ranges: dict[str, tuple[str, str]] = field(default_factory=dict)
     unresolved: dict[str, tuple[str, ...]] = field(default_factory=dict)
+    unresolved_shapes: dict[str, tuple[str, ...]] = field(default_factory=dict)
     keys: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
@@ -133,6 +136,7 @@ class LogSource:
         d["columns"] = list(self.columns)
         d["ranges"] = {k: list(v) for k, v in self.ranges.items()}
         d["unresolved"] = {k: list(v) for k, v in self.unresolved.items()}
+        d["unresolved_shapes"] = {k: list(v) for k, v in self.unresolved_shapes.items()}
         d["keys"] = list(self.keys)
         return d
 
@@ -142,6 +146,8 @@ class LogSource:
         d["columns"] = tuple(d.get("columns", ()))
         d["ranges"] = {k: (v[0], v[1]) for k, v in d.get("ranges", {}).items()}
         d["unresolved"] = {k: tuple(v) for k, v in d.get("unresolved", {}).items()}
+        shapes = d.get("unresolved_shapes", {})
+        d["unresolved_shapes"] = {k: tuple(v) for k, v in shapes.items()}
         d["keys"] = tuple(d.get("keys", ()))
         return cls(**d)
 
@@ -157,6 +163,7 @@ class LogSource:
             date_system=raw.facts.date_system,
             ranges=parsed_ranges(clean),
             unresolved=unresolved_values(clean),
+            unresolved_shapes=unresolved_shapes(clean),
             keys=_keys_of(clean),
         )
 
@@ -189,17 +196,44 @@ MAX_VALUE_CHARS = 60
 MAX_KEYS = 10_000
 
 
-def unresolved_values(clean: CleanTable) -> dict[str, tuple[str, ...]]:
-    """Distinct trimmed raw values of the cells no pattern read, per parsed column (capped)."""
-    out: dict[str, tuple[str, ...]] = {}
+#: Distinct shapes of unresolved values a log keeps per column.
+MAX_SHAPES = 200
+
+
+def _failed_counts(clean: CleanTable) -> dict[str, pd.Series]:
+    """Per parsed column: count of each distinct trimmed raw value no pattern read, most
+    frequent first."""
+    from .rowkey import cells_text
+
+    out: dict[str, pd.Series] = {}
     for name, pc in clean.parsed.items():
         rows = np.flatnonzero(pc.state == CellState.FAILED)
         if len(rows) and name in clean.raw:
-            from .rowkey import cells_text
+            counts = cells_text(clean.raw.column(name), rows).value_counts()
+            out[name] = counts.sort_index(kind="stable").sort_values(ascending=False, kind="stable")
+    return out
 
-            text = cells_text(clean.raw.column(name), rows)
-            values = [v[:MAX_VALUE_CHARS] for v in pd.unique(text)[:MAX_UNRESOLVED]]
-            out[name] = tuple(dict.fromkeys(values))
+
+def unresolved_values(clean: CleanTable) -> dict[str, tuple[str, ...]]:
+    """The most frequent distinct raw values of the cells no pattern read, per parsed column."""
+    out: dict[str, tuple[str, ...]] = {}
+    for name, counts in _failed_counts(clean).items():
+        values = [str(v)[:MAX_VALUE_CHARS] for v in counts.index[:MAX_UNRESOLVED]]
+        out[name] = tuple(dict.fromkeys(values))
+    return out
+
+
+def unresolved_shapes(clean: CleanTable) -> dict[str, tuple[str, ...]]:
+    """The shapes (see ``replay.shape_of``) of every unresolved value, per parsed column."""
+    from .replay import shape_of
+
+    out: dict[str, tuple[str, ...]] = {}
+    for name, counts in _failed_counts(clean).items():
+        shapes = pd.Series(counts.to_numpy(), index=[shape_of(str(v)) for v in counts.index])
+        ranked = (
+            shapes.groupby(level=0, sort=True).sum().sort_values(ascending=False, kind="stable")
+        )
+        out[name] = tuple(str(s) for s in ranked.index[:MAX_SHAPES])
     return out
 
 
@@ -288,6 +322,7 @@ class FixLog:
                 columns=tuple(mapping.get(c, c) for c in src.columns),
                 ranges={mapping.get(k, k): v for k, v in src.ranges.items()},
                 unresolved={mapping.get(k, k): v for k, v in src.unresolved.items()},
+                unresolved_shapes={mapping.get(k, k): v for k, v in src.unresolved_shapes.items()},
             )
         return self.evolve(entries=entries, key_column=key, source=src)
 

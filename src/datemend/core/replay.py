@@ -227,8 +227,12 @@ def _column_drift(
     rc = table.raw.column(name)
     counts = pc.counts()
     failed = np.flatnonzero(pc.state == CellState.FAILED)
-    known = () if log.source is None else log.source.unresolved.get(name, ())
-    groups, tokens = _groups(table.raw, rc, failed, pc.reason, log.blank_tokens(name), known)
+    src = log.source
+    known = () if src is None else src.unresolved.get(name, ())
+    shapes = () if src is None else src.unresolved_shapes.get(name, ())
+    groups, tokens = _groups(
+        table.raw, rc, failed, pc.reason, log.blank_tokens(name), known, shapes
+    )
     out_n, out_ex = 0, ()
     if rng is not None:
         out_n, out_ex = _out_of_range(table.raw, rc, pc.value, pc.state, rng)
@@ -254,6 +258,7 @@ def _groups(
     reasons: np.ndarray,
     known_tokens: set[str],
     known_values: Sequence[str] = (),
+    shapes_seen: Sequence[str] = (),
 ) -> tuple[tuple[CellGroup, ...], tuple[tuple[str, int], ...]]:
     """Unmatched cells grouped by shape (largest first), and the placeholder-looking tokens that
     are neither blank in the log nor among the source's unresolved ``known_values``."""
@@ -262,7 +267,7 @@ def _groups(
     from .infer import scan_column
 
     seen = set(known_values)
-    known_shapes = {shape_of(v) for v in seen}
+    known_shapes = {shape_of(v) for v in seen} | set(shapes_seen)
     text = cells_text(rc, rows)
     codes, uniques = pd.factorize(text)
     u_counts = np.bincount(codes, minlength=len(uniques))

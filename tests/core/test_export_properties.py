@@ -8,6 +8,7 @@ import datetime as dt
 from zoneinfo import ZoneInfo
 
 import numpy as np
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from openpyxl.utils.datetime import to_excel
@@ -91,3 +92,36 @@ def test_date_only_text_matches_date_isoformat(days):
     col = _column(values, [None] * len(values), has_time=False)
     d = prepare_dates(col, np.ones(len(values), np.int8), ExportOptions())
     assert list(iso_text(d)) == [x.isoformat() for x in days]
+
+
+DAYS_WITH_OFFSETS = [
+    # (wall-clock value, offset minutes, date_only flag, why)
+    ("2021-07-01T00:00", 540, True, "a time part dropped by a step: +09:00 must not pull it back"),
+    ("2021-07-01T00:00", -420, False, "no cell has a time: a calendar date, not an instant"),
+    ("1987-02-12T00:00", 330, True, "a half-hour offset"),
+]
+
+
+def test_day_table_has_no_repeats():
+    assert len({d[:3] for d in DAYS_WITH_OFFSETS}) == len(DAYS_WITH_OFFSETS)
+
+
+@pytest.mark.parametrize(("value", "offset", "flag", "why"), DAYS_WITH_OFFSETS)
+def test_date_only_columns_keep_their_day(value, offset, flag, why, tmp_path):
+    """The day as written (datetime.date.fromisoformat as the reference), in every writer."""
+    import pyarrow.parquet as pq
+
+    from datemend.core.clean import CleanTable
+    from datemend.core.export import export_table
+    from datemend.core.table import RawColumn, RawTable, SourceFacts
+
+    col = _column([dt.datetime.fromisoformat(value)], [offset], has_time=False)
+    col = col.evolve(date_only=flag)
+    d = prepare_dates(col, np.ones(1, np.int8), ExportOptions(zone="UTC"))
+    want = dt.date.fromisoformat(value[:10])
+    assert list(iso_text(d)) == [want.isoformat()], why
+    raw = RawTable((RawColumn("When", np.array([value], dtype=object), np.ones(1, np.int8)),),
+                   SourceFacts(format="csv"))  # fmt: skip
+    table = CleanTable(raw).with_parsed(col)
+    export_table(table, tmp_path / "d.parquet")
+    assert pq.read_table(tmp_path / "d.parquet")["When"].to_pylist() == [want], why

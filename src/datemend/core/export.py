@@ -174,7 +174,10 @@ def prepare_dates(col: ParsedColumn, raw_kinds: np.ndarray, options: ExportOptio
     if not options.clear_blank_tokens:
         blank &= raw_kinds == 0  # CellKind.EMPTY: placeholders stay as written
     keep = ~ok & ~blank
-    aware_mask = ok & (col.offset_min != NAIVE)
+    date_only = bool(col.date_only or not col.has_time[ok].any())
+    # A calendar date is not an instant: moving it to another zone could change the day, so
+    # date-only columns keep the day as written, offset or not.
+    aware_mask = ok & (col.offset_min != NAIVE) & (not date_only)
     local = np.where(ok, col.value, np.datetime64("NaT", "us")).astype("datetime64[us]")
     offset = np.full(len(col), NAIVE, dtype=np.int32)
     if aware_mask.any():
@@ -182,7 +185,6 @@ def prepare_dates(col: ParsedColumn, raw_kinds: np.ndarray, options: ExportOptio
         wall, off = to_zone(utc, options.zone)
         local[aware_mask] = wall
         offset[aware_mask] = off
-    date_only = bool(col.date_only or not col.has_time[ok].any())
     if date_only:
         local = local.astype("datetime64[D]").astype("datetime64[us]")
     aware = bool(aware_mask.any())

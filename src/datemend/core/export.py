@@ -5,6 +5,10 @@
 - ``"workbook"``: XLSX/XLSM source to XLSX/XLSM target. The source workbook is opened with
   openpyxl (formulas kept, macros kept for XLSM), only the cells of the fixed columns change, and
   every other sheet, value, number format, width, merged range and formula stays as it was.
+  Formulas' saved results are not written (they could be stale once dates change); the file
+  asks spreadsheet programs to recalculate on opening. Parts openpyxl cannot carry (shapes,
+  slicers, form controls...) are named in ``ExportResult.notes``. A cell is only changed if it
+  still holds the value that was read, so a date can never land in the wrong row.
 - ``"streaming"``: a new XLSX whose sheet XML is built column by column and written in chunks
   (export_stream.py), used when the workbook need not be kept (a CSV or ODS source, or
   ``ExportOptions.streaming``).

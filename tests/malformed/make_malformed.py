@@ -445,6 +445,62 @@ def make_all(out: Path) -> list[Case]:
         n_rows=3,
     )
 
+    # --- size bombs and parser traps -------------------------------------------------------
+    def far_cell(ref: bytes):
+        def change(n: str, b: bytes) -> bytes:
+            if n != "xl/worksheets/sheet1.xml":
+                return b
+            row = re.match(rb"[A-Z]+(\d+)", ref).group(1)
+            cell = b'<row r="' + row + b'"><c r="' + ref + b'" t="n"><v>1</v></c></row>'
+            return b.replace(b"</sheetData>", cell + b"</sheetData>")
+
+        return change
+
+    put(
+        "far_cell_XFD1048576.xlsx",
+        _rezip(good, far_cell(b"XFD1048576")),
+        "error",
+        "one stray cell in the last row and column: a 17-billion-cell grid",
+    )
+    put(
+        "far_cell_ZZ200000.xlsx",
+        _rezip(good, far_cell(b"ZZ200000")),
+        "error",
+        "one stray cell 200,000 rows down",
+    )
+    z = zipfile.ZipFile(io.BytesIO(good_ods))
+    ods_parts = {n: z.read(n) for n in z.namelist()}
+
+    def ods_with(content: bytes) -> bytes:
+        buf = io.BytesIO()
+        with zipfile.ZipFile(buf, "w") as o:
+            o.writestr("mimetype", ods_parts["mimetype"])
+            for n, b in ods_parts.items():
+                if n != "mimetype":
+                    o.writestr(n, content if n == "content.xml" else b, zipfile.ZIP_DEFLATED)
+        return buf.getvalue()
+
+    content = ods_parts["content.xml"]
+    put(
+        "ods_mismatched_tag.ods",
+        ods_with(content.replace(b"</table:table>", b"</table:Aable>")),
+        "error",
+        "closing tag misspelt (an XML parser loop trap)",
+    )
+    repeat = (
+        b'<table:table-row table:number-rows-repeated="1000000"><table:table-cell '
+        b'table:number-columns-repeated="1000"/></table:table-row><table:table-row>'
+        b'<table:table-cell table:number-columns-repeated="1000"/><table:table-cell '
+        b'office:value-type="float" office:value="5"><text:p>5</text:p></table:table-cell>'
+        b"</table:table-row></table:table>"
+    )
+    put(
+        "ods_far_cell.ods",
+        ods_with(content.replace(b"</table:table>", repeat)),
+        "either",
+        "a cell after a million repeated rows",
+    )
+
     # --- many variations of ordinary files, so readers see volume ---------------------------
     formats = ["%d/%m/%Y", "%Y-%m-%d", "%m/%d/%y", "%d.%m.%Y", "%b %d %Y"]
     for k in range(40):

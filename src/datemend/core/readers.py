@@ -148,13 +148,13 @@ def read_table(
             return read_text_table(str(p), data, facts, header_row=header_row, progress=progress)
         del data
         return read_book_table(str(p), facts, sheet=sheet, header_row=header_row, progress=progress)
-    except (ReadError, Cancelled, KeyboardInterrupt):
+    except (ReadError, Cancelled, KeyboardInterrupt, SystemExit, GeneratorExit):
         raise
     except MemoryError:
         raise ReadError(f"{where} is too large to read into memory.", str(p)) from None
-    except Exception as err:  # a library failed in a way we did not foresee: still one sentence
-        text = " ".join(str(err).split())[:120] or type(err).__name__
-        raise ReadError(f"{where} could not be read ({text}).", str(p)) from err
+    except BaseException as err:  # a library failed in a way we did not foresee
+        # (BaseException too: a panic inside a Rust extension arrives as one)
+        raise ReadError(f"{where} could not be read ({_brief(err)}).", str(p)) from err
 
 
 def list_sheets(path: str | Path) -> list[SheetInfo]:
@@ -165,8 +165,13 @@ def list_sheets(path: str | Path) -> list[SheetInfo]:
         if fmt in ("csv", "parquet"):
             return []
         return list_book_sheets(str(p))
-    except ReadError:
+    except (ReadError, KeyboardInterrupt, SystemExit, GeneratorExit):
         raise
-    except Exception as err:
-        text = " ".join(str(err).split())[:120] or type(err).__name__
-        raise ReadError(f"{p.name} could not be read ({text}).", str(p)) from err
+    except BaseException as err:  # see read_table
+        raise ReadError(f"{p.name} could not be read ({_brief(err)}).", str(p)) from err
+
+
+def _brief(err: BaseException) -> str:
+    """A library's message squeezed into a clause: one line, no trailing full stop."""
+    text = " ".join(str(err).split())[:120].rstrip(".") or type(err).__name__
+    return text

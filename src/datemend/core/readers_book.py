@@ -44,21 +44,40 @@ class SheetInfo:
     kind: str = "worksheet"  # "worksheet", "chartsheet", "dialogsheet", "macrosheet"
 
 
-def _open_calamine(path: str, name: str):
-    from python_calamine import CalamineError, CalamineWorkbook, PasswordError
+def _check_ods_xml(path: str, name: str) -> None:
+    """Refuse an ODS whose content.xml is not well-formed XML before calamine sees it: its ODS
+    parser can loop forever on some broken files (found by fuzzing python-calamine 0.9.1)."""
+    from xml.parsers import expat
 
+    try:
+        with zipfile.ZipFile(path) as z:
+            content = z.read("content.xml")
+        expat.ParserCreate().Parse(content, True)
+    except KeyError:
+        raise ReadError(f"{name} is a zip archive but not an ODS spreadsheet.", path) from None
+    except (expat.ExpatError, zipfile.BadZipFile, OSError, ValueError, EOFError) as err:
+        raise ReadError(f"{name} is damaged ({_short(err)}).", path) from None
+
+
+def _open_calamine(path: str, name: str):
+    from python_calamine import CalamineWorkbook, PasswordError
+
+    if path.lower().endswith(".ods"):
+        _check_ods_xml(path, name)
     try:
         return CalamineWorkbook.from_path(path)
     except PasswordError:
         raise ReadError(
             f"{name} is password-protected; save an unprotected copy and open that.", path
         ) from None
-    except (CalamineError, OSError, ValueError) as err:
+    except (KeyboardInterrupt, SystemExit):
+        raise
+    except BaseException as err:  # CalamineError, OSError, or a Rust panic
         raise ReadError(f"{name} could not be read as a workbook ({_short(err)}).", path) from None
 
 
 def _short(err: BaseException) -> str:
-    text = " ".join(str(err).split()) or type(err).__name__
+    text = " ".join(str(err).split()).rstrip(".") or type(err).__name__
     return text if len(text) <= 120 else text[:117] + "…"
 
 
@@ -207,6 +226,44 @@ def _xlsx_sheet_extras(xml: bytes) -> tuple[list[tuple[int, int, str]], list[str
             msg += f" ({no_value} had no saved result and read as empty)"
         notes.append(msg + ".")
     return errors, notes
+
+
+#: Refuse a sheet whose used area would exceed this many cells while holding far fewer: a few
+#: stray cells far from the data (or a hostile file) would make the reader build a grid of
+#: billions of empty cells. A real 1M-row × 40-column sheet still passes.
+MAX_SPARSE_CELLS = 40_000_000
+
+
+def _refuse_sparse_giant(xml: bytes, where: str, path: str) -> None:
+    """Estimate the sheet's used area from its XML (cheap byte searches) before loading it."""
+    first = re.search(rb'<(?:\w+:)?row\b[^>]*?\br\s*=\s*"(\d+)"', xml)
+    last_at = max(xml.rfind(b"<row "), xml.rfind(b":row "))
+    last = (
+        re.match(rb'<?(?:\w+:)?row\b[^>]*?\br\s*=\s*"(\d+)"', xml[last_at:])
+        if last_at >= 0
+        else None
+    )
+    if not first or not last:
+        return
+    height = int(last.group(1)) - int(first.group(1)) + 1
+    if re.search(rb'\br="[A-Z]{3}', xml):
+        width = 16384
+    elif re.search(rb'\br="[A-Z]{2}', xml):
+        width = 702
+    else:
+        width = 26
+    if height * width <= MAX_SPARSE_CELLS:
+        return
+    letters = set(re.findall(rb'\br="([A-Z]{1,3})\d', xml))
+    width = max((_col_index(b) + 1 for b in letters), default=1)
+    cells = xml.count(b"<c ") + xml.count(b":c ")
+    if height * width > MAX_SPARSE_CELLS and height * width > 10 * max(cells, 1):
+        raise ReadError(
+            f"{where} spans {height:,} rows × {width:,} columns but holds only {cells:,} cells; "
+            "delete the stray cells far from the data (or copy the data to a new sheet) and "
+            "open that.",
+            path,
+        )
 
 
 def _list(items: list) -> str:
@@ -433,28 +490,34 @@ def read_book_table(
             if progress is not None:
                 progress.report(1, 4, f"Reading {where}")
             try:
+                if is_ods:
+                    content = z.read("content.xml")
+                    date_system, errors, extra = _ods_facts(content, names.index(sheet_name))
+                    del content
+                else:
+                    date_system = _xlsx_date_system(z)
+                    part = _xlsx_sheet_part(z, sheet_name)
+                    errors, extra = ([], [])
+                    if part is not None and part in members:
+                        xml = z.read(part)
+                        _refuse_sparse_giant(xml, where, path)
+                        errors, extra = _xlsx_sheet_extras(xml)
+                        del xml
+            except (KeyError, zipfile.BadZipFile, OSError, ValueError, SyntaxError) as err:
+                raise ReadError(f"{where} is damaged ({_short(err)}).", path) from None
+            try:
                 cs = book.get_sheet_by_name(sheet_name)
                 rows = cs.to_python(skip_empty_area=True)
                 start = cs.start or (0, 0)
                 merged_ranges = cs.merged_cell_ranges
-            except Exception as err:  # calamine raises its own types and panics as others
+            except (KeyboardInterrupt, SystemExit):
+                raise
+            except BaseException as err:  # calamine errors, or a panic
                 raise ReadError(f"{where} could not be read ({_short(err)}).", path) from None
         finally:
             book.close()
         if progress is not None:
             progress.report(2, 4, f"Read {len(rows):,} rows of {where}")
-        try:
-            if is_ods:
-                content = z.read("content.xml")
-                date_system, errors, extra = _ods_facts(content, names.index(sheet_name))
-            else:
-                date_system = _xlsx_date_system(z)
-                part = _xlsx_sheet_part(z, sheet_name)
-                errors, extra = ([], [])
-                if part is not None and part in members:
-                    errors, extra = _xlsx_sheet_extras(z.read(part))
-        except (KeyError, zipfile.BadZipFile, OSError, ValueError, SyntaxError) as err:
-            raise ReadError(f"{where} is damaged ({_short(err)}).", path) from None
     notes.extend(extra)
     if merged_ranges:
         notes.append(

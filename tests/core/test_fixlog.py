@@ -263,7 +263,7 @@ _json = st.recursive(
 @settings(max_examples=200, deadline=None)
 @given(_json)
 def test_depth_count_agrees_with_the_parsed_json(obj):
-    from datemend.core.fixlog import _max_depth
+    from datemend.core.logcheck import _max_depth
 
     # json.dumps escapes quotes and backslashes inside strings: brackets there must not count
     assert _max_depth(json.dumps(obj)) == _depth(obj)

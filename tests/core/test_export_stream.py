@@ -177,3 +177,16 @@ def test_stream_early_dates_are_text(tmp_path):
     assert ws["A3"].value == dt.datetime(1900, 1, 1)
     assert float(_stored(out)["A3"]) == 1  # serial 1
     assert any("before 1900-01-01" in n for n in result.notes)
+
+
+def test_stream_number_formats_are_the_chosen_ones(tmp_path):
+    src = build_book(tmp_path / "club.xlsx")
+    out = tmp_path / "fmt.xlsx"
+    opts = ExportOptions(streaming=True, date_format="dd.mm.yyyy", datetime_format="d/m/yy h:mm")
+    export_table(clean_table(src), out, options=opts)
+    ws = openpyxl.load_workbook(out).active
+    assert ws["B2"].number_format == "dd.mm.yyyy" and ws["B2"].is_date
+    assert ws["F2"].number_format == "d/m/yy h:mm" and ws["F2"].is_date
+    # a raw cell of an unfixed column keeps a plain ISO form for its kind (openpyxl read this
+    # date cell as a datetime, so the table holds a DATETIME)
+    assert ws["G2"].number_format == "yyyy-mm-dd hh:mm:ss" and ws["G2"].is_date

@@ -126,3 +126,25 @@ def test_parse_series_helper() -> None:
     col = parse_series(pd.Series(["2024-03-01", None, "x"], name="d"), SPEC)
     assert col.state.tolist() == [CellState.PARSED, CellState.BLANK, CellState.FAILED]
     assert col.offset_min[0] == NAIVE
+
+
+def test_dates_without_time_are_not_moved_by_zones() -> None:
+    # A day is not an instant: only values with a time of day take naive_zone (by hand).
+    spec = ParseSpec(patterns=("iso-date",), zone="America/Los_Angeles", naive_zone="Asia/Tokyo")
+    got = read(["2021-07-01", "2021-07-01T09:00:00"], spec)
+    assert got[0] == ("PARSED", "2021-07-01")
+    want = dt.datetime(2021, 7, 1, 9, tzinfo=ZoneInfo("Asia/Tokyo")).astimezone(
+        ZoneInfo("America/Los_Angeles")
+    )
+    assert got[1] == ("PARSED", want.replace(tzinfo=None).isoformat() + "-07:00")
+
+
+def test_a_written_midnight_is_still_an_instant_for_zones() -> None:
+    # 2021-07-01T00:00 in Tokyo is 2021-06-30T08:00 in Los Angeles (zoneinfo): a written
+    # midnight moves like any other time, though alone it reads as a plain date.
+    spec = ParseSpec(patterns=("iso-date",), zone="America/Los_Angeles", naive_zone="Asia/Tokyo")
+    want = dt.datetime(2021, 7, 1, tzinfo=ZoneInfo("Asia/Tokyo")).astimezone(
+        ZoneInfo("America/Los_Angeles")
+    )
+    got = read(["2021-07-01T00:00:00"], spec)
+    assert got == [("PARSED", want.replace(tzinfo=None).isoformat() + "-07:00")]

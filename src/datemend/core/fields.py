@@ -76,6 +76,7 @@ class Reading:
     value: np.ndarray  # int64 microseconds since 1970 (wall clock)
     offset: np.ndarray  # int32 minutes or NAIVE
     has_time: np.ndarray
+    timed: np.ndarray  # bool: a time of day was written (even 00:00:00)
     reason: np.ndarray  # object: sentence where matched and not ok
     order: np.ndarray  # int8 EV_* code (numeric day/month patterns)
     two_digit: np.ndarray  # bool: the year was written with two digits
@@ -285,6 +286,7 @@ def _read(
         value=np.zeros(n, dtype=np.int64),
         offset=np.full(n, NAIVE, dtype=np.int32),
         has_time=np.zeros(n, dtype=bool),
+        timed=np.zeros(n, dtype=bool),
         reason=np.full(n, None, dtype=object),
         order=np.zeros(n, dtype=np.int8),
         two_digit=np.zeros(n, dtype=bool),
@@ -445,7 +447,7 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
         # Ambiguous only when both readings are real days; the reason gives both.
         chk_amb = amb & ~chk.bad
         amb = chk_amb
-    tod, offset, has_time = _read_time(sub, k, chk, spec)
+    tod, offset, has_time, timed = _read_time(sub, k, chk, spec)
     if (wd_given >= 0).any():
         actual = (days + 3) % 7
         chk.fail(
@@ -475,6 +477,7 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
         "value": days * US_PER_DAY + tod,
         "offset": offset,
         "has_time": has_time,
+        "timed": timed,
         "reason": reason,
         "order": order,
         "two_digit": two,
@@ -488,7 +491,7 @@ def _read_time(
     hf = _field(sub, "H")
     offset = np.full(k, NAIVE, dtype=np.int32)
     if hf is None:
-        return np.zeros(k, np.int64), offset, np.zeros(k, bool)
+        return np.zeros(k, np.int64), offset, np.zeros(k, bool), np.zeros(k, bool)
     h = _ints(hf, -1)
     mi = _ints(_field(sub, "M"), -1)
     s = _ints(_field(sub, "S"), -1)
@@ -537,7 +540,7 @@ def _read_time(
             )
             offset = np.where(timed, offset, NAIVE).astype(np.int32)
     has_time = timed & ((tod != 0) | (offset != NAIVE) | twelve)
-    return tod, offset, has_time
+    return tod, offset, has_time, timed
 
 
 def _zone_offsets(zf: pa.Array, zs: np.ndarray, k: int) -> tuple[np.ndarray, np.ndarray]:
@@ -633,6 +636,7 @@ def _read_number(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
         "value": value,
         "offset": offset,
         "has_time": has_time,
+        "timed": has_time | has_frac if p.kind == "serial" else has_time,
         "reason": chk.reason,
         "order": np.zeros(k, np.int8),
         "two_digit": np.zeros(k, bool),

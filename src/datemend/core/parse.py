@@ -23,6 +23,7 @@ A spec by hand (pattern ids are listed in ``patterns.py``)::
 
 from __future__ import annotations
 
+import datetime as _dt
 import weakref
 from dataclasses import dataclass
 
@@ -102,6 +103,7 @@ class TextResult:
     state: np.ndarray
     pattern: np.ndarray
     reason: np.ndarray
+    timed: np.ndarray  # a time of day was written, even a stray 00:00:00
     order: np.ndarray  # evidence of day/month order (fields.EV_*), for the scan
     two_digit: np.ndarray
     year: np.ndarray
@@ -115,6 +117,7 @@ def _empty_result(n: int) -> TextResult:
         state=np.full(n, CellState.FAILED, dtype=np.int8),
         pattern=np.full(n, -1, dtype=np.int16),
         reason=np.full(n, None, dtype=object),
+        timed=np.zeros(n, dtype=bool),
         order=np.zeros(n, dtype=np.int8),
         two_digit=np.zeros(n, dtype=bool),
         year=np.zeros(n, dtype=np.int64),
@@ -197,6 +200,7 @@ def _read_rivals(
         value=np.zeros(n, np.int64),
         offset=np.full(n, NAIVE, np.int32),
         has_time=np.zeros(n, bool),
+        timed=np.zeros(n, bool),
         reason=np.full(n, None, object),
         order=np.zeros(n, np.int8),
         two_digit=np.zeros(n, bool),
@@ -210,7 +214,7 @@ def _read_rivals(
         r = read_pattern(pattern(pid), texts, spec, feats)
         reads.append((k, pid, r))
         take = r.ok & ~comb.ok
-        for f in ("value", "offset", "has_time", "order", "two_digit", "year"):
+        for f in ("value", "offset", "has_time", "timed", "order", "two_digit", "year"):
             getattr(comb, f)[take] = getattr(r, f)[take]
         ks[take] = k
         comb.ok |= take
@@ -243,6 +247,7 @@ def _take(out: TextResult, rows: np.ndarray, r: Reading, ks: np.ndarray) -> None
     out.value[at] = r.value[done].view("datetime64[us]")
     out.offset[at] = r.offset[done]
     out.has_time[at] = r.has_time[done]
+    out.timed[at] = r.timed[done]
     out.state[at] = np.where(r.ok[done], CellState.PARSED, CellState.AMBIGUOUS)
     out.pattern[at] = ks[done]
     out.reason[at] = np.where(r.ok[done], None, r.reason[done])
@@ -286,7 +291,7 @@ def _apply_zone(res: TextResult, spec: ParseSpec) -> None:
     utc[aware] = res.value[aware] - res.offset[aware].astype("timedelta64[m]")
     movable = aware.copy()
     if spec.naive_zone:
-        naive = parsed & (res.offset == NAIVE)
+        naive = parsed & (res.offset == NAIVE) & res.timed  # a date is no instant
         if naive.any():
             local = pd.Series(res.value[naive]).dt.tz_localize(
                 spec.naive_zone, ambiguous="NaT", nonexistent="NaT"
@@ -489,6 +494,7 @@ def _date_cells(
     res.state[:] = CellState.PARSED
     day_us = (u_val - u_val.astype("datetime64[D]")).astype(np.int64)
     res.has_time = (day_us != 0) | (u_off != NAIVE)
+    res.timed = res.has_time | np.array([isinstance(v, _dt.datetime) for v in uniques], dtype=bool)
     _apply_zone(res, spec)
     value[idx] = res.value[codes]
     offset[idx] = res.offset[codes]

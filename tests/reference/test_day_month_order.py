@@ -183,3 +183,21 @@ def test_day_order_decision_is_column_wide_across_patterns() -> None:
     for i, v in enumerate(values):
         assert r.state(i) == CellState.PARSED, r.describe(i)
         assert r.value(i) == as_us(du_parser.parse(v, dayfirst=True)), r.describe(i)
+
+
+def test_compact_text_among_serial_numbers_is_not_silently_a_serial() -> None:
+    # "041470" in a month-first column reads MMDDYY as 1970-04-14 (datetime.strptime "%m%d%y",
+    # POSIX two-digit years; dateutil's clock-bound window would say 2070 in 2026);
+    # as a serial number it would be 2013-07-15. Number cells beside it are serials, but this
+    # cell is text: both readings exist, so read it as the compact date or flag it.
+    from datemend.core.table import CellKind
+
+    assert dt.datetime.strptime("041470", "%m%d%y") == dt.datetime(1970, 4, 14)
+    values = ["041470", 22495.11472222222, 14134.6202199074, 64706.0982175926, "12/25/2023"]
+    kinds = [CellKind.TEXT, CellKind.FLOAT, CellKind.FLOAT, CellKind.FLOAT, CellKind.TEXT]
+    r = run(values, kinds=kinds)
+    assert r.parsed is not None
+    if r.state(0) == CellState.PARSED:
+        assert r.value(0) == as_us(dt.datetime(1970, 4, 14)), r.describe(0)
+    else:
+        assert r.reason(0), r.describe(0)

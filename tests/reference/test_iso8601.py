@@ -193,3 +193,25 @@ def test_gregorian_leap_years(value: str, exists: bool) -> None:
     else:
         assert r.state(0) in (CellState.FAILED, CellState.AMBIGUOUS), r.describe(0)
         assert r.reason(0), r.describe(0)
+
+
+@pytest.mark.parametrize(
+    "others",
+    [
+        [50413167, 1551073921, "25/3/2014", "1912-212"],
+        ["1/1/2000 12:00 AM", "20770101"],
+    ],
+    ids=["among epoch-second numbers", "among M/D/YYYY text"],
+)
+def test_basic_calendar_date_text_is_not_taken_for_epoch_seconds(others: list[object]) -> None:
+    # ISO 8601 §5.2.1.1 basic format: "21001121" is 2100-11-21 (datetime.strptime "%Y%m%d").
+    # As epoch seconds it would be 1970-09-01; both readings exist, so the cell is read as the
+    # date or flagged — never silently as 1970 (issue 3 point 4).
+    target = "21001121"
+    want = dt.datetime.strptime(target, "%Y%m%d")
+    r = run([target, *others])
+    assert r.parsed is not None
+    if r.state(0) == CellState.PARSED:
+        assert r.value(0) == as_us(want), r.describe(0)
+    else:
+        assert r.reason(0), r.describe(0)

@@ -164,3 +164,12 @@ def test_number_read_plausibly_by_a_later_reading_stays_ambiguous() -> None:
     assert parsed.state.tolist() == [CellState.AMBIGUOUS, CellState.PARSED, CellState.PARSED]
     assert "2232-12-07" in parsed.reason[0] and "2003-12-16" in parsed.reason[0]
     assert any("fit both serial 1900 and MMDDYY" in w for w in best.warnings)
+
+
+def test_two_digit_year_last_is_an_assumption_when_nothing_shows_it() -> None:
+    # 15/03/24 is 15 March 2024 (year last) or 2015-03-24 (year first): the warning says so;
+    # a last field above 31 (85) can only be a year, and then nothing is said (by hand).
+    warned = scan_column(col(["15/03/24", "13/04/21"]), reference_year=2026).best.warnings
+    assert any("could also be read year first" in w for w in warned)
+    quiet = scan_column(col(["15/03/85", "13/04/21"]), reference_year=2026).best.warnings
+    assert not any("year first" in w for w in quiet)

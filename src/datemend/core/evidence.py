@@ -521,11 +521,23 @@ def decide_century(
 ) -> tuple[str, int | None, list[str]]:
     two = 0
     future = 0
+    short_last = 0
+    any_big_last = False
     for p, mine in _effective(c, patterns).items():
         r = c.readings[p]
         m = mine & r.two_digit
         two += _n(c.weights[m].sum())
         future += _n(c.weights[m & (r.year > ref_year)].sum())
+        if PATTERNS[p].uses_day_order:
+            short_last += _n(c.weights[m].sum())
+            any_big_last |= bool((m & (r.year % 100 > 31)).any())
+    if short_last and not any_big_last:
+        # 15/03/24 is 15 March 2024 read year last, or 2015-03-24 read year first; the year
+        # is taken to be last (common practice, no source), and the user is told.
+        c.notes_warn.append(
+            f"{short_last} dates with a two-digit year could also be read year first "
+            "(YY/MM/DD); no last field above 31 shows the year is last, which is assumed"
+        )
     c.two_digit_years = two > 0
     if not two:
         return "posix", None, ["default"]

@@ -201,3 +201,21 @@ def test_compact_text_among_serial_numbers_is_not_silently_a_serial() -> None:
         assert r.value(0) == as_us(dt.datetime(1970, 4, 14)), r.describe(0)
     else:
         assert r.reason(0), r.describe(0)
+
+
+@pytest.mark.parametrize("order", ["mdy", "dmy"])
+def test_impossible_numeric_dates_fail_not_roll_over(order: str) -> None:
+    # Issue 3 point 6: 30 February, 31 April, 29 February in a common year are no days
+    # (datetime.date refuses them); they fail with a reason and are never rolled into March/May.
+    days = [(2024, 2, 30), (2023, 2, 31), (2022, 4, 31), (2023, 2, 29)]
+    for y, m, d in days:
+        with pytest.raises(ValueError):
+            dt.date(y, m, d)
+    fmt = "{m}/{d}/{y}" if order == "mdy" else "{d}/{m}/{y}"
+    values = [fmt.format(y=y, m=m, d=d) for y, m, d in days]
+    decide = "12/25/2023" if order == "mdy" else "25/12/2023"
+    r = run([*values, decide, fmt.format(y=2024, m=2, d=29)])
+    for i in range(len(days)):
+        assert r.state(i) in (CellState.FAILED, CellState.AMBIGUOUS), r.describe(i)
+        assert r.reason(i), r.describe(i)
+    assert r.value(len(days) + 1) == as_us(dt.date(2024, 2, 29)), r.describe(len(days) + 1)

@@ -363,7 +363,9 @@ def test_apply_to_dataframe_from_a_log_file(tmp_path):
     path = tmp_path / "log.json"
     _log().replace(0, ReadDates("Born", _spec_for(raw))).save(path)
     df = raw.to_dataframe()
+    df.index = ["a", "b", "c"]
     out = apply_to_dataframe(path, df)
+    assert list(out.index) == ["a", "b", "c"]
     assert list(out.columns) == ["Member no", "Born", "Name"]
     assert str(out["Born"].dtype) == "datetime64[us]"
     assert out["Born"].iloc[1] == pd.Timestamp("1985-04-12")

@@ -118,10 +118,13 @@ def apply_to_dataframe(
     keep_raw: bool = False,
 ) -> pd.DataFrame:
     """Notebook use: apply a log (or a log file) to a DataFrame of raw values and get a
-    DataFrame with the parsed columns (``datetime64[us]``, NaT where unresolved) back."""
+    DataFrame with the parsed columns (``datetime64[us]``, NaT where unresolved) back, on the
+    same index (the input frame is not changed)."""
     log = log_or_path if isinstance(log_or_path, FixLog) else FixLog.load(log_or_path)
     clean = apply_log(log, RawTable.from_dataframe(df), ctx)
-    return clean.to_dataframe(keep_raw=keep_raw)
+    out = clean.to_dataframe(keep_raw=keep_raw)
+    out.index = df.index
+    return out
 
 
 def auto_fix(

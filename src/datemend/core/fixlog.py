@@ -3,11 +3,11 @@
 The JSON file holds data only (it is read with ``json.loads``, never unpickled or evaluated),
 says what it is (``"format": "datemend-fixlog"``, an integer ``version``), and carries facts
 about the file it was made on — for the drift report, never as a lock. Loading refuses files
-over ``MAX_BYTES`` or nested deeper than ``MAX_DEPTH``, and checks every step against its
-registered JSON Schema (Draft 2020-12); each problem is a ``FixLogError`` whose one sentence
-names the file, the step number (1-based) and the field.
+over ``MAX_BYTES``, nested deeper than ``MAX_DEPTH`` or with more than ``MAX_STEPS`` steps, and
+checks every step against its registered JSON Schema (Draft 2020-12); each problem is a
+``FixLogError`` whose one sentence names the file, the step number (1-based) and the field.
 
-Example::
+Example (shortened)::
 
     {
       "format": "datemend-fixlog",
@@ -15,17 +15,25 @@ Example::
       "datemend_version": "0.1.0",
       "created": "2026-11-02T09:15:00Z",
       "source": {"file_name": "rowing_club_2026-10.xlsx", "sheet": "Members",
-                 "columns": ["Member no", "Name", "Born", "Joined"], "sha256": "9f2c…",
-                 "rows": 180, "ranges": {"Born": ["1941-05-02T00:00:00", "2012-08-30T00:00:00"]}},
+                 "columns": ["Member no", "Name", "Born", …], "sha256": "e62b…", "rows": 300,
+                 "date_system": 1900,
+                 "ranges": {"Born": ["1950-02-05T00:00:00", "2013-11-30T00:00:00"], …},
+                 "unresolved": {"Renewal due": ["31/04/2026"]},
+                 "unresolved_shapes": {"Renewal due": ["99/99/9999"]},
+                 "keys": ["0102", "0109", …]},
       "key_column": "Member no",
       "notes": [],
       "steps": [
         {"enabled": true, "step": {"kind": "read-dates", "column": "Born",
-                                   "spec": {"patterns": ["dmy-slash"], "day_order": "dmy", …},
-                                   "label": "D/M/YYYY 100%"}},
-        {"enabled": true, "step": {"kind": "blank-tokens", "tokens": ["n/a"], "columns": []}}
+                                   "spec": {"patterns": ["num-slash"], "day_order": "dmy", …},
+                                   "label": "D/M/YY 80% · date cell 20%"}},
+        {"enabled": true, "step": {"kind": "set-cell", "column": "Renewal due", "key": "0275",
+                                   "value": "2026-04-30", "key_column": "Member no",
+                                   "raw": "31/04/2026", "note": ""}}
       ]
     }
+
+Reading the file safely is ``logcheck.py``'s job; applying a log is ``applylog.py``'s.
 """
 
 from __future__ import annotations

@@ -393,3 +393,18 @@ def test_replay_on_its_own_file_never_drifts(cells, junk):
     for name, pc in clean.parsed.items():
         assert np.array_equal(r.table.parsed[name].value, pc.value, equal_nan=True)
         assert np.array_equal(r.table.parsed[name].state, pc.state)
+
+
+@needs_samples
+@pytest.mark.parametrize("name", ["rowing_club_2026-10.csv", "rowing_club_2026-10.ods"])
+def test_the_october_log_reads_the_same_export_in_another_format(october, name):
+    """The CSV (all text, Windows-1252) and ODS exports of October hold the same cells: the log
+    made on the workbook gives the same dates there, and no drift."""
+    from datemend.core.readers import read_table
+
+    _, log, clean = october
+    r = replay(log, read_table(SAMPLES / name))
+    assert not r.has_drift, str(r)
+    for col, pc in clean.parsed.items():
+        assert np.array_equal(r.table.parsed[col].value, pc.value, equal_nan=True), col
+        assert np.array_equal(r.table.parsed[col].state, pc.state), col

@@ -345,3 +345,25 @@ def test_xlsm_reads_like_xlsx(tmp_path):
     t = read_table(p)
     assert t.facts.format == "xlsm"
     assert t.column("Joined").values[0] == dt.date(2019, 3, 14)
+
+
+def test_calamine_behaviour_the_reader_relies_on(tmp_path):
+    """Pins what python-calamine does, so an upgrade that changes it fails here first.
+
+    1) it applies date1904 itself (ISO/IEC 29500-1 §18.17.4: 1904 serial 2225 is 1910-02-03), so
+    the reader must not shift dates again; 2) it returns error cells as empty text, which is why
+    the reader takes them from the sheet XML.
+    """
+    from python_calamine import CalamineWorkbook
+
+    def setup(wb, ws):
+        ws["A2"].number_format = "yyyy-mm-dd"
+        ws["A3"] = "#N/A"
+        ws["A3"].data_type = "e"
+
+    p = _book(tmp_path / "pin.xlsx", [["d"], [2225]], epoch1904=True, setup=setup)
+    book = CalamineWorkbook.from_path(p)
+    rows = book.get_sheet_by_index(0).to_python()
+    book.close()
+    assert rows[1][0] == dt.date(1910, 2, 3)
+    assert rows[2][0] == ""

@@ -451,6 +451,21 @@ def mixed(rng: random.Random, n: int) -> Iterator[LabelledColumn]:
         else:
             pairs.append((t.isoformat(timespec="seconds"), t, None))
     yield _text_col("mixed column", "renewal", pairs)
+    # A CSV of a merged sheet: M/D/YYYY text, serial numbers as text, YYYYMMDD text.
+    pairs = []
+    for _ in range(n):
+        d = _date(rng, 1990, 2030)
+        r = rng.random()
+        if r < 0.6:
+            text = _numeric(d, "mdy", "/", False, 4)
+        elif r < 0.8:
+            text = str((_at(d) - dt.datetime(1899, 12, 30)).days)
+        else:
+            text = d.strftime("%Y%m%d")
+        pairs.append((text, _at(d), None))
+    col = _text_col("mixed column", "joined_csv", pairs)
+    col.facts = SourceFacts(format="csv")
+    yield col
 
 
 def contradicting(rng: random.Random, n: int) -> Iterator[LabelledColumn]:

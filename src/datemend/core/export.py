@@ -232,7 +232,8 @@ def target_format(target: str | Path, options: ExportOptions | None = None) -> s
     if options is not None and options.format:
         fmt = options.format.lower()
         if fmt not in {"xlsx", "csv", "parquet"}:
-            raise ExportError(f'"{options.format}" is not a format datemend writes.', path)
+            text = f'{path.name}: "{options.format}" is not a format datemend writes.'
+            raise ExportError(text, path)
         return fmt
     suffix = path.suffix.lower()
     if suffix == ".ods":
@@ -366,10 +367,12 @@ def _check_options(options: ExportOptions, target: Path) -> None:
         try:
             zoneinfo.ZoneInfo(options.zone)
         except (zoneinfo.ZoneInfoNotFoundError, ValueError) as err:
-            raise ExportError(f'"{options.zone}" is not a known time zone.', target) from err
+            raise ExportError(
+                f'{target.name}: "{options.zone}" is not a known time zone.', target
+            ) from err
     d = options.delimiter
     if len(d) != 1 or d in {'"', "\r", "\n"}:
-        raise ExportError(f"{d!r} cannot be used as a CSV delimiter.", target)
+        raise ExportError(f"{target.name}: {d!r} cannot be used as a CSV delimiter.", target)
 
 
 def _check_target(clean: CleanTable, target: Path, overwrite: bool) -> None:

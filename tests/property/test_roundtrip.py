@@ -180,9 +180,9 @@ def engine_written(t: dt.datetime, order: str, data: st.DataObject) -> Written:
     time = data.draw(st.sampled_from(["none", "hm", "hms", "hms.f"]))
     clock = data.draw(st.sampled_from(["24", "12"])) if time != "none" else "24"
     offset = data.draw(st.one_of(st.none(), st.integers(-12 * 60, 14 * 60)))
-    if time == "none" and pid != "rfc5322":
-        offset = None
-    if pid == "rfc5322":
+    if (time == "none" and pid != "rfc5322") or pid == "asctime":
+        offset = None  # asctime carries no offset
+    if pid in ("rfc5322", "asctime"):  # fixed forms: always hh:mm:ss, 24-hour
         time, clock = "hms", "24"
     language = data.draw(st.sampled_from(["en", "fr", "de", "es", "it", "pt", "nl"]))
     opts = dict(

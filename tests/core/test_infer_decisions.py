@@ -173,3 +173,31 @@ def test_two_digit_year_last_is_an_assumption_when_nothing_shows_it() -> None:
     assert any("could also be read year first" in w for w in warned)
     quiet = scan_column(col(["15/03/85", "13/04/21"]), reference_year=2026).best.warnings
     assert not any("year first" in w for w in quiet)
+
+
+def test_a_number_outside_plausible_years_with_another_reading_is_ambiguous() -> None:
+    # Among epoch seconds, "21001121" is 1970-09-01T01:38:41Z (epoch) or 2100-11-21
+    # (YYYYMMDD, datetime.strptime "%Y%m%d"): neither is taken silently.
+    values: list[object] = ["21001121", 1551073921, 1600000000, "25/3/2014"]
+    arr = np.empty(4, dtype=object)
+    arr[:] = values
+    c = RawColumn("c", arr, kinds_of(arr))
+    best = scan_column(c, reference_year=2026).best
+    assert "epoch-s" in best.spec.patterns and "compact-ymd" in best.spec.alternates
+    parsed = parse_column(c, best.spec)
+    assert parsed.state[0] == CellState.AMBIGUOUS
+    assert "1970-09-01T01:38:41+00:00" in parsed.reason[0] and "2100-11-21" in parsed.reason[0]
+    # 1551073921 s = 2019-02-25T05:52:01Z (datetime.fromtimestamp(…, UTC))
+    assert parsed.value[1] == np.datetime64("2019-02-25T05:52:01", "us")
+
+
+def test_spec_with_plausible_years_round_trips_through_json() -> None:
+    import json
+
+    from datemend.core.spec import ParseSpec
+
+    spec = ParseSpec(
+        patterns=("serial",), plausible=(("serial", 1920, 2076),), alternates=("epoch-s",)
+    )
+    back = ParseSpec.from_dict(json.loads(json.dumps(spec.to_dict())))
+    assert back == spec and hash(back) == hash(spec)

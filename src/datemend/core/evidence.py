@@ -34,12 +34,14 @@ from .spec import ParseSpec
 from .table import CellKind, RawColumn, SourceFacts
 
 __all__ = [
+    "DIGIT_PATTERNS",
     "Census",
     "build_suggestion",
     "census_of",
     "disagreements",
     "full_view",
     "likeness_of",
+    "number_window",
     "parse_sample",
     "unread_patterns",
 ]
@@ -353,7 +355,7 @@ def _live(c: Census) -> np.ndarray:
     return ~c.placeholder if c.placeholder is not None else np.ones(len(c.texts), bool)
 
 
-def _window(pid: str, ref_year: int) -> tuple[int, int]:
+def number_window(pid: str, ref_year: int) -> tuple[int, int]:
     # Plausible years for a number read as a date (common practice, no source). Serials start
     # later so small counts and IDs (1–7305) are not taken for 1900s dates; epochs from 1975
     # so eight-digit numbers (1970–1973 as seconds) are not taken for Unix time.
@@ -378,7 +380,7 @@ def choose_patterns(c: Census, ref_year: int) -> list[str]:
 
     def plausible(p: str, rows: np.ndarray) -> np.ndarray:
         r = c.readings[p]
-        lo, hi = _window(p, ref_year)
+        lo, hi = number_window(p, ref_year)
         return r.ok & rows & (r.year >= lo) & (r.year <= hi)
 
     while left.any() and len(digits) < 3:
@@ -680,7 +682,7 @@ def _implausible_numbers(c: Census, spec: ParseSpec, res: TextResult, parsed: np
     for k, pid in enumerate(spec.patterns):
         if pid not in DIGIT_PATTERNS:
             continue
-        lo, hi = _window(pid, c.ref_year)
+        lo, hi = number_window(pid, c.ref_year)
         odd = parsed & (res.pattern == k) & c.digit & ((years < lo) | (years > hi))
         if odd.any():
             j = np.flatnonzero(odd)[0]

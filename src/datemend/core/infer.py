@@ -22,8 +22,11 @@ import datetime as _dt
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from .evidence import (
+    DIGIT_PATTERNS,
     Census,
     build_suggestion,
     census_of,
@@ -33,14 +36,15 @@ from .evidence import (
     decide_zone,
     full_view,
     likeness_of,
+    number_window,
     parse_sample,
     placeholders_of,
     unread_patterns,
 )
-from .parse import remember
+from .parse import distinct_texts, remember
 from .patterns import PATTERNS, label
 from .progress import Progress
-from .report import ColumnReport
+from .report import CellNote, ColumnReport, Suggestion
 from .spec import ParseSpec
 from .table import CellKind, RawColumn, RawTable, SourceFacts
 
@@ -66,6 +70,9 @@ def scan_column(
     facts = facts or SourceFacts()
     ref_year = reference_year or _dt.date.today().year
     kinds = {k.name.lower(): int(c) for k, c in zip(CellKind, _kind_counts(column)) if c}
+    quick = _without_digits(column, facts, kinds)
+    if quick is not None:
+        return quick
     census = census_of(column, facts, sample=SAMPLE)
     census.ref_year = ref_year
     placeholders = placeholders_of(census)
@@ -105,6 +112,8 @@ def scan_column(
         blank_tokens=census.blank_tokens,
         locales=census.locales,
         rivals=tuple(census.rivals),
+        plausible=tuple((p, *number_window(p, ref_year)) for p in patterns if p in DIGIT_PATTERNS),
+        alternates=tuple(p for p in DIGIT_PATTERNS if p not in patterns),
     )
     warnings = [*warn_order, *zone_warn, *census.notes_warn, *census.notes]
     full = full_view(census, column)
@@ -146,6 +155,60 @@ def scan_column(
         placeholders=tuple(placeholders),
         suggestions=tuple(ranked),
         summary=summary,
+    )
+
+
+def _without_digits(
+    column: RawColumn, facts: SourceFacts, kinds: dict[str, int]
+) -> ColumnReport | None:
+    """Every pattern needs a digit (a day at least): a column of text without one is no date
+    column, and is reported without reading it with every pattern."""
+    if kinds.get("date", 0) or kinds.get("datetime", 0):
+        return None
+    rows, codes, texts = distinct_texts(column)
+    if not len(texts):
+        return None
+    if len(texts) <= 48:
+        if any(ch.isdigit() for t in texts for ch in t):
+            return None
+    elif pc.any(pc.match_substring_regex(pa.array(texts, pa.string()), r"\d")).as_py():
+        return None
+    cells = np.bincount(codes, minlength=len(texts))
+    first = np.full(len(texts), -1, dtype=np.int64)
+    first[codes[::-1]] = np.arange(len(codes))[::-1]
+    order = np.argsort(rows[first], kind="stable")[:20]
+    start = facts.header_row + 1
+    why = "no digit in it, so no date"
+    notes = tuple(
+        CellNote(int(rows[first[j]]), int(rows[first[j]]) + start, str(texts[j]), why)
+        for j in order
+    )
+    total = int(cells.sum()) + kinds.get("time", 0) + kinds.get("bool", 0)
+    sug = Suggestion(
+        spec=ParseSpec(patterns=()),
+        label="no dates read",
+        score=0.0,
+        parsed=0,
+        total=total,
+        evidence=("no value holds a digit, and every date pattern needs one",),
+        decisions={
+            "day_order": "default",
+            "century": "default",
+            "date_system": "default",
+            "zone": "default",
+        },
+        failures=notes,
+        failed=total,
+    )
+    return ColumnReport(
+        column=column.name,
+        n_rows=len(column),
+        likeness=0.0,
+        is_date=False,
+        blank=kinds.get("empty", 0),
+        kinds=kinds,
+        suggestions=(sug,),
+        summary=f"0% date-like · no dates read · 0/{total} parsed · {total} failed",
     )
 
 

@@ -184,7 +184,56 @@ def parse_texts(
         remaining = remaining[~done]
     if len(remaining):
         _explain_unread(out, remaining, norm, spec)
+    if spec.plausible and spec.alternates:
+        _doubt_numbers(out, norm, feats, spec)
     return out
+
+
+#: Dates written on purpose to mean "no date": a number reading them keeps its reading.
+_SENTINELS = np.array(
+    ["1899-12-30", "1899-12-31", "1900-01-01", "1970-01-01", "9999-12-31"], dtype="datetime64[us]"
+)
+
+
+def _doubt_numbers(out: TextResult, norm: pa.Array, feats: _Features, spec: ParseSpec) -> None:
+    """Numbers read outside their pattern's plausible years that another number reading also
+    reads become AMBIGUOUS, with both readings in the reason (see ``ParseSpec.plausible``)."""
+    years = out.value.astype("datetime64[Y]").astype(np.int64) + 1970
+    doubt = np.zeros(len(out.state), dtype=bool)
+    for pid, lo, hi in spec.plausible:
+        if pid not in spec.patterns:
+            continue
+        k = spec.patterns.index(pid)
+        doubt |= (
+            (out.state == CellState.PARSED) & (out.pattern == k) & ((years < lo) | (years > hi))
+        )
+    doubt &= ~np.isin(out.value, _SENTINELS)
+    if not doubt.any():
+        return
+    idx = np.flatnonzero(doubt)
+    sub = norm.take(pa.array(idx))
+    sub_feats = feats.subset(idx, sub)
+    own_iso = iso_text(out.value[idx], out.offset[idx], out.has_time[idx])
+    others: list[tuple[str, Reading]] = []
+    for alt in spec.alternates:
+        r = read_pattern(pattern(alt), sub, spec, sub_feats)
+        others.append((alt, r))
+    for j, i in enumerate(idx):  # per doubtful distinct number (few)
+        own = spec.patterns[out.pattern[i]]
+        readings = [f"{own_iso[j]} ({label(own, date_system=spec.date_system)})"]
+        for alt, r in others:
+            if alt != own and r.ok[j] and r.value[j] != out.value[i].astype(np.int64):
+                v = r.value[j : j + 1].view("datetime64[us]")
+                alt_iso = iso_text(v, r.offset[j : j + 1], r.has_time[j : j + 1])[0]
+                readings.append(f"{alt_iso} ({label(alt, date_system=spec.date_system)})")
+        if len(readings) > 1:
+            out.state[i] = CellState.AMBIGUOUS
+            out.reason[i] = (
+                "could be " + " or ".join(readings) + "; the first is outside the years "
+                "this column's numbers otherwise give"
+            )
+            out.value[i] = np.datetime64("NaT")
+            out.has_time[i] = False
 
 
 def _read_rivals(

@@ -29,7 +29,8 @@ Pattern ids (JSON-safe, never renamed):
 ``rfc5322``        RFC 5322 message date-time: ``Fri, 21 Nov 1997 09:55:06 -0600``, obsolete
                    ``21 Nov 97 09:55:06 GMT`` (UT GMT EST EDT CST CDT MST MDT PST PDT)
 ``serial``         spreadsheet serial day number, 1900 or 1904 system (``ParseSpec.date_system``);
-                   a fraction is the time of day: ``44927``, ``44927.5``
+                   a fraction is the time of day: ``44927``, ``44927.5`` (a number: text
+                   with a leading zero such as ``041470`` is no serial, nor epoch)
 ``epoch-s``        Unix time in seconds (POSIX, every day 86 400 s): ``1234567890``
 ``epoch-ms``       Unix time in milliseconds: ``1234567890123``
 =================  ============================================================================
@@ -225,7 +226,7 @@ _ALL = [
         "serial",
         "number",
         "serial",
-        r"^(?P<i>\d{1,7})(?:\.(?P<f>\d*))?$",
+        r"^(?P<i>0|[1-9]\d{0,6})(?:\.(?P<f>\d*))?$",  # a number: no leading zero
         ("epoch-s", "compact-yymmdd", "iso-ordinal"),
     ),
     Pattern(
@@ -233,7 +234,7 @@ _ALL = [
         "epoch s",
         "number",
         "epoch-s",
-        r"^(?P<neg>-?)(?P<i>\d{1,10})(?:\.(?P<f>\d{1,9}))?$",
+        r"^(?P<neg>-?)(?P<i>[1-9]\d{0,9})(?:\.(?P<f>\d{1,9}))?$",
         ("serial", "compact-ymd", "epoch-ms"),
     ),
     Pattern(
@@ -241,7 +242,7 @@ _ALL = [
         "epoch ms",
         "number",
         "epoch-ms",
-        r"^(?P<neg>-?)(?P<i>\d{1,13})(?:\.(?P<f>\d{1,6}))?$",
+        r"^(?P<neg>-?)(?P<i>[1-9]\d{0,12})(?:\.(?P<f>\d{1,6}))?$",
         ("epoch-s",),
     ),
     Pattern("date-cell", "date cell", "cell", "cell", ""),
@@ -457,7 +458,7 @@ def render(
         first, second = (dd, mm) if day_order == "dmy" else (mm, dd)
         out = f"{first}{sep}{second}{sep}{yy}"
     else:
-        out = _render_named(p.id, dt, yy, dd, language, width, weekday, ordinal, offset_min)
+        out = _render_named(p.id, dt, yy, dd, language, width, weekday, ordinal, offset_min, time)
     out += tail
     if case == "upper":
         out = out.upper()
@@ -476,11 +477,15 @@ def _render_named(
     weekday: bool,
     ordinal: bool,
     offset_min: int | None,
+    time: str = "hms",
 ) -> str:
     if pid == "asctime":
         wd = _bd.get_day_names("abbreviated", "format", "en")[dt.weekday()].rstrip(".")
         mon = _bd.get_month_names("abbreviated", "format", "en")[dt.month].rstrip(".")
-        return f"{wd} {mon} {dt.day} {dt:%H:%M:%S} {dt.year}"
+        clock = (
+            "00:00:00" if time == "none" else dt.strftime("%H:%M" if time == "hm" else "%H:%M:%S")
+        )
+        return f"{wd} {mon} {dt.day} {clock} {dt.year}"
     if pid == "rfc5322":
         wd = _bd.get_day_names("abbreviated", "format", "en")[dt.weekday()].rstrip(".")
         mon = _bd.get_month_names("abbreviated", "format", "en")[dt.month].rstrip(".")

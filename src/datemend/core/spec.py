@@ -33,6 +33,11 @@ class ParseSpec:
     ``rivals``: pattern ids (also listed in ``patterns``) that compete for the same texts, such
     as YYMMDD and DDMMYY: where two of them read a text as different dates, the cell is
     AMBIGUOUS and its reason gives each reading; where only one reads it, that one wins.
+    ``plausible``: (pattern id, first year, last year) for number readings (serial, epoch,
+    compact digits): a number its reading puts outside those years, and that one of the
+    ``alternates`` (number pattern ids) also reads, is AMBIGUOUS with both readings, so
+    "21001121" among epoch seconds is not silently 1970-09-01. Sentinel dates (9999-12-31 …)
+    keep their reading.
     """
 
     patterns: tuple[str, ...]
@@ -45,6 +50,8 @@ class ParseSpec:
     blank_tokens: tuple[str, ...] = ()
     locales: tuple[str, ...] = ("en",)
     rivals: tuple[str, ...] = ()
+    plausible: tuple[tuple[str, int, int], ...] = ()
+    alternates: tuple[str, ...] = ()
     extra: dict[str, Any] = field(default_factory=dict, compare=False, hash=False)
 
     def __post_init__(self) -> None:
@@ -59,14 +66,17 @@ class ParseSpec:
 
     def to_dict(self) -> dict[str, Any]:
         d = asdict(self)
-        for key in ("patterns", "blank_tokens", "locales", "rivals"):
+        for key in ("patterns", "blank_tokens", "locales", "rivals", "alternates"):
             d[key] = list(d[key])
+        d["plausible"] = [list(t) for t in d["plausible"]]
         return d
 
     @classmethod
     def from_dict(cls, d: dict[str, Any]) -> ParseSpec:
         d = dict(d)
-        for key in ("patterns", "blank_tokens", "locales", "rivals"):
+        for key in ("patterns", "blank_tokens", "locales", "rivals", "alternates"):
             if key in d:
                 d[key] = tuple(d[key])
+        if "plausible" in d:
+            d["plausible"] = tuple(tuple(t) for t in d["plausible"])
         return cls(**d)

@@ -13,6 +13,7 @@ Signals:
 from __future__ import annotations
 
 import datetime as _dt
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from enum import Enum
 
@@ -25,7 +26,7 @@ from ..core.clean import NAIVE, CellState, ParsedColumn
 from ..core.table import CellKind, RawColumn
 from .look import state_look
 
-__all__ = ["CellsModel", "CellsSource", "Column", "RowFilter", "format_value"]
+__all__ = ["CellsModel", "CellsSource", "Column", "FindIndex", "RowFilter", "format_value"]
 
 _Index = QModelIndex | QPersistentModelIndex
 
@@ -52,6 +53,8 @@ _ROLES_USED = frozenset({_DISPLAY, _EDIT, _USER, _TOOLTIP, _FOREGROUND, _ACCESSI
 _LOOKS = tuple(state_look(s) for s in sorted(CellState))  # indexed by the int8 state
 _STATE_COLOURS = tuple(QColor(look.colour) for look in _LOOKS)
 _MANUAL = int(CellState.MANUAL)
+_FLAGS_SHOWN = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable  # made once, not per call
+_FLAGS_EDIT = _FLAGS_SHOWN | Qt.ItemFlag.ItemIsEditable
 
 _HEADER_TIPS = {
     Column.ROW: "Row number in the file or sheet (the header is above the first).",
@@ -155,6 +158,43 @@ def _raw_text(value: object, kind: int) -> str:
     return str(value)
 
 
+class FindIndex:
+    """The distinct values of one column, lower-cased, and its distinct ISO dates: built once per
+    column, so each search runs over the distinct values only and maps back with one take."""
+
+    def __init__(
+        self, raw: RawColumn, parsed: ParsedColumn | None, old: FindIndex | None = None
+    ) -> None:
+        self.raw, self.parsed = raw, parsed
+        if old is not None and old.raw is raw:
+            self.codes, self.lowered = old.codes, old.lowered
+        else:
+            codes, uniques = pd.factorize(raw.text(), use_na_sentinel=True)
+            self.codes = codes
+            self.lowered = pd.Series(np.asarray(uniques, dtype=object), dtype=object).str.lower()
+        self.iso: pd.Series | None = None
+        self.inverse: np.ndarray | None = None
+        if parsed is not None:
+            days = parsed.value.astype("datetime64[D]")
+            uniq, inverse = np.unique(days, return_inverse=True)
+            self.iso = pd.Series(np.datetime_as_string(uniq, unit="D"), dtype=object)
+            self.inverse = inverse.reshape(-1)
+
+    def fits(self, raw: RawColumn, parsed: ParsedColumn | None) -> bool:
+        return self.raw is raw and self.parsed is parsed
+
+    def mask(self, needle: str) -> np.ndarray:
+        """Rows whose raw text or ISO date contains ``needle`` (case-insensitive)."""
+        needle = needle.lower()
+        hit_u = self.lowered.str.contains(needle, regex=False).to_numpy(dtype=bool)
+        hit = np.append(hit_u, False)[self.codes]  # code -1 (empty cell) takes the False
+        p = self.parsed
+        if p is not None and self.iso is not None and self.inverse is not None:
+            in_iso = self.iso.str.contains(needle, regex=False).to_numpy(dtype=bool)
+            hit = hit | (in_iso[self.inverse] & ~np.isnat(p.value))
+        return hit
+
+
 class CellsModel(QAbstractTableModel):
     """Rows of one column through an index array; see the module docstring for the signals."""
 
@@ -167,8 +207,8 @@ class CellsModel(QAbstractTableModel):
         self._filter = RowFilter()
         self._rows = np.zeros(0, dtype=np.int64)
         self._columns: tuple[Column, ...] = COLUMNS
-        self._find_text: tuple[np.ndarray, pd.Series] | None = None  # codes, lower-case uniques
-        self._find_iso: tuple[ParsedColumn, pd.Series, np.ndarray] | None = None
+        self._finder: FindIndex | None = None
+        self._found: tuple[str, FindIndex, np.ndarray] | None = None  # needle, index, mask
         self._value_us = np.zeros(0, dtype=np.int64)
 
     # -- what is shown ---------------------------------------------------------------------
@@ -194,8 +234,8 @@ class CellsModel(QAbstractTableModel):
         """Show another column (or the same column after a fix)."""
         self.beginResetModel()
         if source is None or self._source is None or source.raw is not self._source.raw:
-            self._find_text = None
-            self._find_iso = None
+            self._finder = None
+        self._found = None
         self._source = source
         self._value_us = (
             np.zeros(0, dtype=np.int64)
@@ -252,28 +292,57 @@ class CellsModel(QAbstractTableModel):
         return rows.astype(np.int64)
 
     def _find_mask(self, needle: str) -> np.ndarray:
-        """Rows whose raw text or ISO date contains ``needle``: the search runs over the distinct
-        values only (factorized once per column), then maps back to rows with one take."""
+        """Rows whose raw text or ISO date contains ``needle`` (a mask found in a job is reused)."""
         assert self._source is not None
-        needle = needle.lower()
-        if self._find_text is None:
-            codes, uniques = pd.factorize(self._source.raw.text(), use_na_sentinel=True)
-            lowered = pd.Series(np.asarray(uniques, dtype=object), dtype=object).str.lower()
-            self._find_text = (codes, lowered)
-        codes, lowered = self._find_text
-        hit_u = np.append(lowered.str.contains(needle, regex=False).to_numpy(dtype=bool), False)
-        hit = hit_u[codes]  # code -1 (empty cell) takes the appended False
-        p = self._source.parsed
-        if p is not None:
-            if self._find_iso is None or self._find_iso[0] is not p:
-                days = p.value.astype("datetime64[D]")
-                uniq, inverse = np.unique(days, return_inverse=True)
-                iso = pd.Series(np.datetime_as_string(uniq, unit="D"), dtype=object)
-                self._find_iso = (p, iso, inverse.reshape(-1))
-            _p, iso, inverse = self._find_iso
-            in_iso = iso.str.contains(needle, regex=False).to_numpy(dtype=bool)
-            hit = hit | (in_iso[inverse] & ~np.isnat(p.value))
-        return hit
+        got = self._found
+        if (
+            got is not None
+            and got[0] == needle.lower()
+            and got[1].fits(self._source.raw, self._source.parsed)
+        ):
+            return got[2]
+        return self.finder().mask(needle)
+
+    def finder(self) -> FindIndex:
+        """The find index of the shown column (built on first use; ``find_work`` builds it off
+        the GUI thread)."""
+        assert self._source is not None
+        src = self._source
+        if self._finder is None or not self._finder.fits(src.raw, src.parsed):
+            self._finder = FindIndex(src.raw, src.parsed, self._finder)
+        return self._finder
+
+    def find_work(self, needle: str) -> Callable[[object], tuple[FindIndex, np.ndarray]]:
+        """A pure function for a worker thread: the find index (reused when it still fits) and
+        the rows matching ``needle``; hand its result to ``take_found``."""
+        assert self._source is not None
+        raw, parsed, old = self._source.raw, self._source.parsed, self._finder
+
+        def work(_progress: object) -> tuple[FindIndex, np.ndarray]:
+            index = (
+                old if old is not None and old.fits(raw, parsed) else FindIndex(raw, parsed, old)
+            )
+            return index, index.mask(needle)
+
+        return work
+
+    def needs_find_work(self, needle: str) -> bool:
+        """True when finding ``needle`` would first have to build the index of many distinct
+        values (so the pane runs it as a job)."""
+        src = self._source
+        if src is None or not needle:
+            return False
+        f = self._finder
+        return f is None or not f.fits(src.raw, src.parsed)
+
+    def take_found(self, index: FindIndex, needle: str, mask: np.ndarray) -> bool:
+        """Keep a find result made in a job (False when the column changed meanwhile)."""
+        src = self._source
+        if src is None or not index.fits(src.raw, src.parsed):
+            return False
+        self._finder = index
+        self._found = (needle.lower(), index, mask)
+        return True
 
     # -- Qt model interface ----------------------------------------------------------------
     def rowCount(self, parent: _Index = QModelIndex()) -> int:  # noqa: B008
@@ -305,14 +374,13 @@ class CellsModel(QAbstractTableModel):
     def flags(self, index: _Index) -> Qt.ItemFlag:
         if not index.isValid():
             return Qt.ItemFlag.NoItemFlags
-        base = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
         if (
             self._columns[index.column()] is Column.READS
             and self._source is not None
             and self._source.parsed is not None
         ):
-            base |= Qt.ItemFlag.ItemIsEditable
-        return base
+            return _FLAGS_EDIT
+        return _FLAGS_SHOWN
 
     def data(self, index: _Index, role: int = _DISPLAY) -> object:
         # Hot path (called for every visible cell and role): plain ints, no enum look-ups.

@@ -9,6 +9,8 @@ Signals:
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import numpy as np
 from PySide6.QtCore import Qt, QTimer, Signal
 from PySide6.QtWidgets import (
@@ -226,9 +228,38 @@ class CellsPane(QWidget):
         else:
             self._apply_filter()
 
+    #: Runs long work off the GUI thread: ``run_job(title, fn, on_done)`` (the window sets it;
+    #: without it, finding on a big table runs here).
+    run_job: Callable[[str, Callable[[object], object], Callable[[object], None]], object] | None
+    run_job = None
+
     def _apply_filter(self) -> None:
         self._find_timer.stop()
-        self.model.set_filter(self._current_filter())
+        flt = self._current_filter()
+        src = self.model.source
+        if (
+            self.run_job is not None
+            and src is not None
+            and len(src.raw) >= self.find_pause_rows
+            and self.model.needs_find_work(flt.find)
+        ):
+            # The first find in a big column builds its index of distinct values: a job.
+            needle = flt.find
+            self.count.setText(f"finding “{needle}”…")
+            self.run_job(
+                f"Finding “{needle}”",
+                self.model.find_work(needle),
+                lambda got: self._found(needle, got),
+            )
+            return
+        self.model.set_filter(flt)
+
+    def _found(self, needle: str, got: object) -> None:
+        index, mask = got  # type: ignore[misc]
+        if self.model.take_found(index, needle, mask) and self.find.text().strip() == needle:
+            self.model.set_filter(self._current_filter())
+        else:
+            self._apply_filter()  # the column or the text changed meanwhile
 
     def _show_changed(self, _i: int) -> None:
         mode, _p = _mode_of(self.show_box.currentData())

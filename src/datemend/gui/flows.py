@@ -74,6 +74,7 @@ class FileFlows:
             session.scan_all(progress)
             report = session.replay(log, progress)
             sheets = [s.name for s in list_sheets(data_path) if s.visible]
+            progress.check()  # a Stop pressed during the last step still stops the replay
             return session, report, sheets
 
         return self.run_job(

@@ -104,6 +104,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         self.readings.blank_requested.connect(self._blank_tokens)
         self.readings.problem.connect(self.show_error)
         self.cells.hand_set_requested.connect(self._hand_set)
+        self.cells.run_job = self.run_job
         self.fixlog.toggle_requested.connect(self._toggle_step)
         self.fixlog.remove_requested.connect(lambda i: self._edit(lambda s: s.remove_step(i)))
         self.fixlog.move_requested.connect(lambda i, j: self._edit(lambda s: s.move_step(i, j)))
@@ -282,8 +283,10 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
 
             sheets = [s.name for s in list_sheets(path) if s.visible]
             raw = read_table(path, sheet=sheet, progress=progress)
+            progress.check()
             session = Session(raw)
             session.scan_all(progress)
+            progress.check()  # a Stop pressed during the last column still stops the open
             return session, sheets
 
         return self.run_job(

@@ -232,7 +232,7 @@ def run_auto(args: argparse.Namespace) -> int:
         clean,
         out,
         options=_export_options(args),
-        log_lines=[e.step.describe() for e in log.entries],
+        log_lines=[e.step.describe() for e in log.entries if e.enabled],
         overwrite=args.overwrite,
         progress=progress,
     )
@@ -329,7 +329,7 @@ def run_replay(args: argparse.Namespace) -> int:
         report.table,
         out,
         options=_export_options(args),
-        log_lines=[e.step.describe() for e in log.entries],
+        log_lines=[e.step.describe() for e in log.entries if e.enabled],
         overwrite=args.overwrite,
         progress=progress,
     )

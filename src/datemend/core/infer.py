@@ -4,7 +4,7 @@ A scan reads a deterministic sample of each column's distinct values (all of the
 ``SAMPLE``) with every pattern at once (the *census*), then makes the column-wide decisions:
 
 - which patterns the column uses (numbers compete: serial, epoch, compact digits; the reading
-  whose dates are plausible wins — see ``evidence.py``),
+  whose dates are plausible wins — see ``census.py`` and ``evidence.py``),
 - day/month order from evidence (a first field above 12 can only be a day), else from the stated
   preference (and the report says so), else left undecided so those cells stay AMBIGUOUS,
 - the two-digit-year rule (never silently future dates in a column of past events),
@@ -25,27 +25,23 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
 
-from .evidence import (
+from .census import (
     DIGIT_PATTERNS,
     Census,
-    build_suggestion,
     census_of,
-    choose_patterns,
-    decide_century,
-    decide_day_order,
-    decide_zone,
     full_view,
-    likeness_of,
     number_window,
     parse_sample,
     placeholders_of,
     unread_patterns,
 )
+from .evidence import choose_patterns, decide_century, decide_day_order, decide_zone
 from .parse import distinct_texts, remember
 from .patterns import PATTERNS, label
 from .progress import Progress
 from .report import CellNote, ColumnReport, Suggestion
 from .spec import ParseSpec
+from .suggest import build_suggestion, likeness_of
 from .table import CellKind, RawColumn, RawTable, SourceFacts
 
 __all__ = ["SAMPLE", "scan", "scan_column"]
@@ -292,7 +288,7 @@ def _evolve(spec: ParseSpec, **changes: object) -> ParseSpec:
 def _with_disagreements(census: Census, ranked: list) -> list:
     from dataclasses import replace
 
-    from .evidence import disagreements
+    from .suggest import disagreements
 
     out = []
     for i, s in enumerate(ranked):

@@ -1,0 +1,353 @@
+"""The scan's census: a column's distinct values (a deterministic sample of them for big
+columns) read with every pattern at once, the placeholders among them, and the plausible
+years of number readings. Rules of thumb are marked "common practice, no source".
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
+
+from .clean import CellState
+from .fields import Reading, features, read_pattern
+from .names import LANGUAGES, month_languages
+from .parse import (
+    DATE_CELL,
+    TextResult,
+    _apply_zone,
+    distinct_texts,
+    normalise,
+    parse_texts,
+)
+from .patterns import PATTERNS, pattern
+from .spec import ParseSpec
+from .table import CellKind, RawColumn, SourceFacts
+
+__all__ = [
+    "DIGIT_PATTERNS",
+    "PLACEHOLDERS",
+    "TEXT_PATTERNS",
+    "Census",
+    "census_of",
+    "full_view",
+    "number_window",
+    "parse_sample",
+    "placeholders_of",
+    "unread_patterns",
+]
+
+#: Numbers that compete for digit-only values, in the order ties are broken.
+DIGIT_PATTERNS = (
+    "compact-ymd",
+    "serial",
+    "epoch-s",
+    "epoch-ms",
+    "compact-dmy",
+    "compact-mdy",
+    "iso-ordinal",
+    "compact-yymmdd",
+    "compact-ddmmyy",
+    "compact-mmddyy",
+)
+TEXT_PATTERNS = tuple(p for p in PATTERNS if p not in DIGIT_PATTERNS and p != DATE_CELL)
+
+#: Tokens exports use for "no date" (common practice, no source).
+PLACEHOLDERS = frozenset(
+    [
+        "n/a",
+        "na",
+        "n.a",
+        "n",
+        "a",
+        "n/k",
+        "nk",
+        "none",
+        "null",
+        "nil",
+        "nan",
+        "nat",
+        "unknown",
+        "unk",
+        "?",
+        "??",
+        "???",
+        "-",
+        "--",
+        "---",
+        "—",
+        "–",
+        ".",
+        "x",
+        "xx",
+        "xxx",
+        "tbd",
+        "tba",
+        "tbc",
+        "pending",
+        "missing",
+        "blank",
+        "empty",
+        "0",
+        "00/00/0000",
+        "0/0/0000",
+        "0000-00-00",
+        "00.00.0000",
+        "00-00-0000",
+        "00/00/00",
+        "#n/a",
+        "#value!",
+        "#ref!",
+        "not",
+        "known",
+        "not",
+        "applicable",
+        "no",
+        "date",
+        "inconnu",
+        "unbekannt",
+        "desconocido",
+        "sconosciuto",
+        "onbekend",
+        "not known",
+        "not applicable",
+        "no date",
+    ]
+)
+
+_DIGITS_RE = r"^-?\d+(?:\.\d*)?$"
+
+
+@dataclass
+class Census:
+    """A column's sampled distinct values and what every pattern made of them."""
+
+    name: str
+    facts: SourceFacts
+    n_rows: int
+    empty: int
+    texts: np.ndarray  # sampled distinct texts (object)
+    weights: np.ndarray  # cells each stands for (float: scaled up when the values are sampled)
+    cells: np.ndarray  # cells holding each (exact)
+    rows: np.ndarray  # first row position of each
+    norm: pa.Array
+    digit: np.ndarray  # bool: digits only (a number)
+    n_distinct: int
+    text_cells: int
+    dated: int
+    date_examples: tuple[tuple[str, str], ...]
+    other_failed: int  # time-of-day and true/false cells
+    readings: dict[str, Reading]
+    locales: tuple[str, ...] = ("en",)
+    placeholder: np.ndarray | None = None
+    blank_tokens: tuple[str, ...] = ()
+    order_ambiguous: bool = False
+    two_digit_years: bool = False
+    aware: bool = False
+    digit_alternatives: list[dict[str, str]] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+    notes_evidence: list[str] = field(default_factory=list)
+    notes_warn: list[str] = field(default_factory=list)
+    rivals: list[str] = field(default_factory=list)
+    sample_note: str | None = None
+    parsed_cache: dict = field(default_factory=dict)
+    feats: dict | None = None
+    ref_year: int = 2100
+    arrow: pa.Array | None = None  # the texts as an Arrow array
+
+
+def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
+    """Read up to ``sample`` distinct values of ``column`` with every pattern."""
+    kinds = column.kinds
+    rows_t, codes, texts = distinct_texts(column)
+    uniques = texts
+    weights = np.bincount(codes, minlength=len(uniques)).astype(np.int64)
+    first = np.full(len(uniques), -1, dtype=np.int64)
+    first[codes[::-1]] = np.arange(len(codes))[::-1]
+    sel = np.arange(len(uniques))
+    scale = np.ones(len(uniques))
+    note = None
+    if len(uniques) > sample:
+        # Deterministic: the most frequent half, and the rest spread evenly over the file order.
+        by_weight = np.argsort(-weights, kind="stable")[: sample // 2]
+        keep = np.ones(len(uniques), dtype=bool)
+        keep[by_weight] = False
+        rest = np.flatnonzero(keep)
+        spread = rest[np.linspace(0, len(rest) - 1, sample - len(by_weight)).astype(np.int64)]
+        sel = np.sort(np.concatenate([by_weight, spread]))
+        # The most frequent values count as themselves; the spread ones stand for all the rest.
+        scale = np.ones(len(uniques))
+        scale[spread] = weights[rest].sum() / max(weights[spread].sum(), 1)
+        note = (
+            f"estimated from a sample of {len(sel):,} of {len(uniques):,} distinct values "
+            f"({int(weights[sel].sum()):,} of {len(rows_t):,} cells)"
+        )
+    arrow = pa.array(texts[sel], type=pa.string())
+    norm = normalise(arrow)
+    digit = pc.match_substring_regex(norm, _DIGITS_RE).to_numpy(zero_copy_only=False)
+    spec = ParseSpec(
+        patterns=tuple(p for p in PATTERNS if p != DATE_CELL),
+        date_system=facts.date_system,
+        locales=tuple(LANGUAGES),
+    )
+    feats = features(norm)
+    readings = {
+        pid: read_pattern(pattern(pid), norm, spec, feats, explain=False) for pid in spec.patterns
+    }
+    dated_mask = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
+    examples = tuple((str(v), v.isoformat()) for v in pd.unique(column.values[dated_mask][:50])[:2])
+    c = Census(
+        name=column.name,
+        facts=facts,
+        n_rows=len(column),
+        empty=int((kinds == CellKind.EMPTY).sum()),
+        texts=texts[sel],
+        weights=weights[sel] * scale[sel],
+        cells=weights[sel],
+        rows=rows_t[first[sel]] if len(rows_t) else first[sel],
+        norm=norm,
+        digit=digit,
+        n_distinct=len(uniques),
+        text_cells=len(rows_t),
+        dated=int(dated_mask.sum()),
+        date_examples=examples,
+        other_failed=int(np.isin(kinds, (CellKind.TIME, CellKind.BOOL)).sum()),
+        readings=readings,
+        sample_note=note,
+    )
+    c.feats = feats
+    c.arrow = arrow
+    c.locales = _languages(c)
+    return c
+
+
+def full_view(c: Census, column: RawColumn) -> Census:
+    """The census over every distinct value (no readings): for exact counts of one spec."""
+    if c.sample_note is None:
+        return c
+    rows_t, codes, texts = distinct_texts(column)
+    cells = np.bincount(codes, minlength=len(texts)).astype(np.int64)
+    first = np.full(len(texts), -1, dtype=np.int64)
+    first[codes[::-1]] = np.arange(len(codes))[::-1]
+    arrow = pa.array(texts, type=pa.string())
+    norm = normalise(arrow)
+    feats = features(norm)
+    tokens = pa.array(list(c.blank_tokens), pa.string())
+    folded = pc.utf8_trim_whitespace(pc.utf8_lower(arrow))
+    placeholder = pc.is_in(folded, value_set=tokens).to_numpy(zero_copy_only=False)
+    return replace(
+        c,
+        texts=texts,
+        arrow=arrow,
+        weights=cells.astype(np.float64),
+        cells=cells,
+        rows=rows_t[first],
+        norm=norm,
+        digit=feats["digits"],
+        feats=feats,
+        placeholder=placeholder,
+        parsed_cache={},
+        sample_note=None,
+        readings={},
+    )
+
+
+def unread_patterns(c: Census, full: Census, spec: ParseSpec) -> list[str]:
+    """Text patterns that read values outside the sample which ``spec`` reads with none."""
+    res = parse_sample(full, spec)
+    lost = (res.state == CellState.FAILED) & (res.pattern < 0)
+    if not lost.any():
+        return []
+    idx = np.flatnonzero(lost)
+    sub = full.norm.take(pa.array(idx))
+    feats = full.feats.subset(idx)
+    wide = ParseSpec(patterns=TEXT_PATTERNS, date_system=spec.date_system, locales=tuple(LANGUAGES))
+    return [
+        p
+        for p in TEXT_PATTERNS
+        if p not in spec.patterns
+        and read_pattern(pattern(p), sub, wide, feats, explain=False).ok.any()
+    ]
+
+
+def _languages(c: Census) -> tuple[str, ...]:
+    """The fewest languages whose CLDR month names cover the month words of the column."""
+    rows = np.zeros(len(c.texts), dtype=bool)
+    for p in ("name-dmy", "name-mdy", "name-ymd", "asctime"):
+        rows |= c.readings[p].ok
+    if not rows.any():
+        return ("en",)
+    words = pc.split_pattern_regex(c.norm.filter(pa.array(rows)), r"[^\pL]+")
+    w = c.weights[rows]
+    where = month_languages()
+    seen: list[set[str]] = []
+    for ws in words.to_pylist():  # per distinct text with a month name (few)
+        langs: set[str] = set()
+        for word in ws:
+            if word in where:
+                langs |= set(where[word])
+        seen.append(langs)
+    chosen: list[str] = []
+    left = np.array([bool(s) for s in seen])
+    while left.any():
+        cover = {g: np.array([g in s for s in seen]) for g in LANGUAGES}
+        lang = max(LANGUAGES, key=lambda g: float(w[cover[g] & left].sum()))
+        if not (cover[lang] & left).any():
+            break
+        chosen.append(lang)
+        left &= ~cover[lang]
+    return tuple(chosen) or ("en",)
+
+
+def placeholders_of(c: Census) -> list[tuple[str, int]]:
+    """Recurring tokens no pattern reads, suggested as blank (normalised text, cells)."""
+    ok = np.zeros(len(c.texts), dtype=bool)
+    for r in c.readings.values():
+        ok |= r.ok | r.ambiguous
+    norm = np.asarray(c.norm.to_numpy(zero_copy_only=False), dtype=object)
+    known = np.isin(norm, list(PLACEHOLDERS))
+    has_digit = pc.match_substring_regex(c.norm, r"\d").to_numpy(zero_copy_only=False)
+    length = pc.utf8_length(c.norm).to_numpy(zero_copy_only=False)
+    recurring = ~has_digit & (c.cells >= 2) & (length <= 24)
+    mask = ~ok & (known | recurring)
+    c.placeholder = mask
+    # The token is the text trimmed and case-folded, as ParseSpec.blank_tokens compares.
+    counts: dict[str, int] = {}
+    for t, w in zip(c.texts[mask], c.weights[mask], strict=True):
+        key = str(t).strip().casefold()
+        if key:
+            counts[key] = counts.get(key, 0) + _n(w)
+    return sorted(counts.items(), key=lambda kv: (-kv[1], kv[0]))
+
+
+def _n(x: float) -> int:
+    return round(float(x))
+
+
+def _live(c: Census) -> np.ndarray:
+    return ~c.placeholder if c.placeholder is not None else np.ones(len(c.texts), bool)
+
+
+def number_window(pid: str, ref_year: int) -> tuple[int, int]:
+    # Plausible years for a number read as a date (common practice, no source). Serials start
+    # later so small counts and IDs (1–7305) are not taken for 1900s dates; epochs from 1975
+    # so eight-digit numbers (1970–1973 as seconds) are not taken for Unix time.
+    if pid == "serial":
+        return (1920, ref_year + 50)
+    if pid.startswith("epoch"):
+        return (1975, ref_year + 50)
+    return (1900, ref_year + 50)
+
+
+def parse_sample(c: Census, spec: ParseSpec) -> TextResult:
+    """``spec`` over the census's distinct values (zones applied), computed once per spec."""
+    res = c.parsed_cache.get(spec)
+    if res is None:
+        texts = c.arrow if c.arrow is not None else c.texts
+        res = parse_texts(texts, spec, norm=c.norm, feats=c.feats)
+        _apply_zone(res, spec)
+        c.parsed_cache[spec] = res
+    return res

@@ -177,3 +177,59 @@ def test_scrolling_a_big_table_reads_only_the_rows_in_view(qtbot):
         table.viewport().update()
         qtbot.waitUntil(lambda pos=pos: pos in model.asked, timeout=5000)
         assert 0 < len(model.asked) < 200  # a screenful (600 px / 20 px rows), not the table
+
+
+# ------------------------------------------------------------ found by using the window
+def test_a_column_that_is_not_dates_offers_no_reading_to_use(qtbot, window, tmp_path):
+    p = tmp_path / "club.csv"
+    p.write_text(
+        "Member,Notes,Joined\nR1,Prefers bow seat,03/10/2019\nR2,Keys to boathouse,14/02/2021\n",
+        encoding="utf-8",
+    )
+    with qtbot.waitSignal(window.document_ready, timeout=30_000):
+        window.open_file(p)
+    window.columns.choose("Notes")
+    assert window.readings.cards == []  # no "Use this reading" that would only blank the text
+    assert "left as written" in window.readings.summary.text()
+    window.columns.choose("Joined")
+    assert window.readings.cards  # a date column still offers its readings
+
+
+def test_saving_a_log_where_it_cannot_be_written_is_one_plain_sentence(
+    qtbot, window, tmp_path, monkeypatch
+):
+    p = tmp_path / "club.csv"
+    p.write_text("Member,Joined\nR1,03/10/2019\n", encoding="utf-8")
+    with qtbot.waitSignal(window.document_ready, timeout=30_000):
+        window.open_file(p)
+    target = tmp_path / "no such folder" / "club-fixlog.json"
+    monkeypatch.setattr(window, "ask_save_log_path", lambda _s: str(target))
+    window.save_log()
+    text = window.last_message.text()
+    assert text.startswith("Saving club-fixlog.json failed:") and "\n" not in text, text
+    assert "went wrong inside" not in text and "Traceback" not in text
+    window.last_message.close()
+
+
+def test_loading_a_log_made_for_other_columns_says_so_in_a_dialog(
+    qtbot, window, tmp_path, monkeypatch
+):
+    from datemend.core.readers import read_table
+    from datemend.core.session import Session
+
+    other = tmp_path / "other.csv"
+    other.write_text("Ref,When\n1,03/10/2019\n2,14/02/2021\n", encoding="utf-8")
+    s = Session(read_table(other))
+    s.use_suggestion("When", s.report("When").best)
+    s.save_log(tmp_path / "when-fixlog.json")
+    club = tmp_path / "club.csv"
+    club.write_text("Member,Joined\nR1,03/10/2019\n", encoding="utf-8")
+    with qtbot.waitSignal(window.document_ready, timeout=30_000):
+        window.open_file(club)
+    monkeypatch.setattr(window, "ask_log_path", lambda: str(tmp_path / "when-fixlog.json"))
+    window.load_log()
+    assert window.last_message is not None and window.last_message.isVisible()
+    assert (
+        '"When"' in window.last_message.text() and "when-fixlog.json" in window.last_message.text()
+    )
+    window.last_message.close()

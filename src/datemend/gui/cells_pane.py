@@ -36,12 +36,14 @@ __all__ = ["CellsPane"]
 _WIDTHS = {
     Column.ROW: 44,
     Column.KEY: 60,
-    Column.RAW: 112,
-    Column.READS: 100,
-    Column.STATE: 96,
-    Column.PATTERN: 96,
-    Column.NOTE: 200,
+    Column.RAW: 96,
+    Column.READS: 90,
+    Column.STATE: 80,
+    Column.PATTERN: 80,
+    Column.NOTE: 80,
 }
+#: Columns sized to the rows in view, up to these widths (a long cell shows in full as a tip).
+_FIT = {Column.RAW: 170, Column.READS: 210, Column.STATE: 110, Column.PATTERN: 130}
 
 
 def _mode_of(data: object) -> tuple[str, int | None]:
@@ -159,12 +161,23 @@ class CellsPane(QWidget):
         self.title.setText(f"<b>Cells</b> of “{source.raw.name}”" if source else "<b>Cells</b>")
         self.chart.set_values(None if parsed is None else parsed.value)
         self.model.set_source(source, self._current_filter())
+        self._fit_columns()
+
+    def _fit_columns(self) -> None:
+        """Widths from the header and the rows in view (Qt measures only those, so this costs
+        the same at a million rows), between a floor and a cap; Note takes what is left."""
         fm = self.table.horizontalHeader().fontMetrics()
         for col, w in _WIDTHS.items():
             i = self.model.column_of(col)
-            if i >= 0:
-                head = str(self.model.headerData(i, Qt.Orientation.Horizontal))
-                self.table.setColumnWidth(i, max(w, fm.horizontalAdvance(head) + 24))
+            if i < 0:
+                continue
+            head = str(self.model.headerData(i, Qt.Orientation.Horizontal))
+            floor = max(w, fm.horizontalAdvance(head) + 24)
+            if col in _FIT:
+                fitted = max(self.table.sizeHintForColumn(i), 0) + 8
+                self.table.setColumnWidth(i, min(max(floor, fitted), _FIT[col]))
+            else:
+                self.table.setColumnWidth(i, floor)
 
     def _fill_show_box(
         self, parsed: ParsedColumn | None, hits: dict[str, np.ndarray] | None = None

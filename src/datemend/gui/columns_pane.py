@@ -56,6 +56,10 @@ class ColumnsPane(QWidget):
         self.list = QListWidget()
         self.list.setObjectName("columnsList")
         self.list.setAccessibleName("Columns")
+        # Long marks wrap onto a second line instead of hiding behind a sideways scroll bar.
+        self.list.setWordWrap(True)
+        self.list.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.list.setResizeMode(QListWidget.ResizeMode.Adjust)
         lay = QVBoxLayout(self)
         lay.setContentsMargins(0, 0, 0, 0)
         lay.addWidget(QLabel("<b>Columns</b>"))

@@ -248,6 +248,8 @@ class DeriveDialog(QDialog):
         self.note.setStyleSheet(f"color: {OKABE_ITO['vermillion']}")
         self.table = QTableWidget(0, 0)
         self.table.setEditTriggers(QTableWidget.EditTrigger.NoEditTriggers)
+        self.table.horizontalHeader().setStretchLastSection(True)
+        self.table.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
         self.error = QLabel()
         self.error.setWordWrap(True)
         self.error.setStyleSheet(f"color: {OKABE_ITO['vermillion']}")
@@ -364,6 +366,7 @@ class DeriveDialog(QDialog):
             for c in range(len(frame.columns)):
                 v = frame.iat[r, c]
                 self.table.setItem(r, c, QTableWidgetItem(_cell_text(v)))
+        self.table.resizeColumnsToContents()  # a few preview rows: cheap
         return True
 
     def _ok(self) -> None:

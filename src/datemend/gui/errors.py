@@ -52,6 +52,13 @@ def sentence_for(err: BaseException, what: str = "") -> str:
         write_log(err, what)
         return str(err)
     path = write_log(err, what)
+    if isinstance(err, OSError) and err.strerror:
+        # The disk or the folder said no (missing folder, no permission, disk full): the user
+        # can act on that, so say it plainly.
+        if what:  # ``what`` names the user's file (err.filename may be a temporary one)
+            return f"{what[0].upper()}{what[1:]} failed: {err.strerror}."
+        name = Path(str(err.filename)).name if err.filename else "the file"
+        return f"Working on {name} failed: {err.strerror}."
     doing = f" while {what}" if what else ""
     return (
         f"Something went wrong inside datemend{doing}; nothing was changed, "

@@ -48,8 +48,16 @@ class FileFlows:
         if self.session is None:
             return
         path = self.ask_log_path()
-        if path:
-            self._edit(lambda s: s.load_log(path))
+        if not path:
+            return
+        before = self.session.log
+        self._edit(lambda s: s.load_log(path))
+        s = self.session
+        skipped = [w for w in s.clean.warnings if "skipped" in w] if s.auto_apply else []
+        if s.log is not before and skipped:
+            # A log made for other columns: say so in a dialog, not only in the status bar.
+            more = f" ({len(skipped) - 1} more in the fix log)" if len(skipped) > 1 else ""
+            self.show_error(f"{Path(path).name}: {skipped[0]}{more}")
 
     def _beside(self, suffix: str) -> Path:
         base = self.path or Path.home() / "datemend"

@@ -240,7 +240,15 @@ class ReadingsPanel(QWidget):
         )
         self._tokens: tuple[str, ...] = ()
         self.set_blank_state(read=False, blank=set())
-        for i, s in enumerate(report.suggestions, start=1):
+        # A reading that reads no cell is no way to read the column: say so instead of a card
+        # offering to "use" it (it would only turn the column's text to blank).
+        useful = [s for s in report.suggestions if s.parsed > 0]
+        if not useful:
+            self.summary.setText(
+                self.summary.text()
+                + "\nNo way of writing dates reads any cell here; the column is left as written."
+            )
+        for i, s in enumerate(useful, start=1):
             card = _Card(i, s, self._cards_box)
             card.use.clicked.connect(lambda _=False, s=s: self._use(s))
             self._cards_lay.insertWidget(len(self.cards), card)

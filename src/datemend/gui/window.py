@@ -87,7 +87,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         main.setStretchFactor(0, 1)
         main.setStretchFactor(1, 4)
         main.setStretchFactor(2, 2)
-        main.setSizes([205, 745, 330])
+        main.setSizes([235, 715, 330])
         main.setChildrenCollapsible(False)
         self.setCentralWidget(main)
         self.job_bar = JobBar()

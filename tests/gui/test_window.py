@@ -436,7 +436,8 @@ def test_derive_dialog_previews_and_adds_an_age(qtbot, window, small_csv):
     )
     assert "local law" in d.note.text()
     _params, w = d.inputs["as_of"]
-    w.setText("2026-10-31")
+    assert w.currentData() == "replay-day"  # offered in words, "the day the fix log runs"
+    w.setEditText("2026-10-31")
     assert d.show_preview()
     assert d.table.rowCount() > 0
     with qtbot.waitSignal(window.table_refreshed):
@@ -462,7 +463,16 @@ def test_a_rule_shows_its_breaking_rows_as_problems(qtbot, window, small_csv):
     d.kind.setCurrentIndex(
         next(i for i in range(d.kind.count()) if d.kind.itemData(i).kind == "rule-not-after")
     )
-    d.inputs["as_of"][1].setText("2021-01-01")
+    d.inputs["as_of"][1].setEditText("2021-01-01")
+    assert d.show_preview()
+    rule_col = d.table.columnCount() - 1
+    # Preview rows in file order: R001 joined 03/10/2019 keeps the rule, R002 14/02/2021 breaks
+    # it (after 2021-01-01), R003 "n/a" is not read: nothing to check (worked out by hand).
+    assert [d.table.item(r, rule_col).text() for r in range(3)] == [
+        "✓ keeps it",
+        "✗ breaks it",
+        "○ no date to check",
+    ]
     with qtbot.waitSignal(window.table_refreshed):
         qtbot.mouseClick(d.add, Qt.MouseButton.LeftButton)
     (label,) = s.clean.rule_hits

@@ -302,10 +302,20 @@ class DeriveDialog(QDialog):
             if default:
                 w.setCurrentIndex(max(0, w.findData(default)))
             return w
+        if kind == "as-of":
+            # The day the log runs, or a date typed in (YYYY-MM-DD).
+            w = QComboBox()
+            w.setEditable(True)
+            w.addItem(_AS_OF_WORDS, "replay-day")
+            w.lineEdit().setPlaceholderText("YYYY-MM-DD")
+            if default not in (None, "replay-day"):
+                w.setEditText(str(default))
+            return w
         if kind == "choice":
             w = QComboBox()
+            labels = p.get("choice_labels") or {}
             for c in p["choices"]:
-                w.addItem(str(c), c)
+                w.addItem(str(labels.get(c, c)), c)
             if default is not None:
                 w.setCurrentIndex(max(0, w.findData(default)))
             return w
@@ -327,7 +337,10 @@ class DeriveDialog(QDialog):
         """The parameters as JSON data, ready for the step kind's ``from_dict``."""
         out: dict[str, Any] = {}
         for name, (p, w) in self.inputs.items():
-            if isinstance(w, QComboBox):
+            if isinstance(w, QComboBox) and w.isEditable():
+                text = w.currentText().strip()
+                out[name] = "replay-day" if text in ("", _AS_OF_WORDS) else text
+            elif isinstance(w, QComboBox):
                 out[name] = w.currentData()
             elif isinstance(w, QCheckBox):
                 out[name] = w.isChecked()
@@ -353,7 +366,8 @@ class DeriveDialog(QDialog):
 
     def show_preview(self) -> bool:
         try:
-            frame = self._preview(self.step())
+            step = self.step()
+            frame = self._preview(step)
         except Exception as err:  # a sentence for the user, beside the form
             self.error.setText(str(err))
             self.table.setRowCount(0)
@@ -362,10 +376,18 @@ class DeriveDialog(QDialog):
         self.table.setColumnCount(len(frame.columns))
         self.table.setHorizontalHeaderLabels([str(c) for c in frame.columns])
         self.table.setRowCount(len(frame))
-        for r in range(len(frame)):
-            for c in range(len(frame.columns)):
+        rule = getattr(step, "rule_label", None)
+        for c, name in enumerate(frame.columns):
+            if rule is not None and name == rule:  # the rule's mask: True marks a breaking row
+                self.table.setHorizontalHeaderItem(c, QTableWidgetItem(f"{name}?"))
+            for r in range(len(frame)):
                 v = frame.iat[r, c]
-                self.table.setItem(r, c, QTableWidgetItem(_cell_text(v)))
+                if rule is not None and name == rule:
+                    dates = [frame.iat[r, k] for k in range(len(frame.columns)) if k != c]
+                    text = "○ no date to check" if any(map(_is_na, dates)) else _rule_text(v)
+                else:
+                    text = _cell_text(v)
+                self.table.setItem(r, c, QTableWidgetItem(text))
         self.table.resizeColumnsToContents()  # a few preview rows: cheap
         return True
 
@@ -377,6 +399,16 @@ class DeriveDialog(QDialog):
             return
         self.step_requested.emit(step)
         self.accept()
+
+
+_AS_OF_WORDS = "the day the fix log runs"
+
+
+def _rule_text(v: Any) -> str:
+    """A rule's preview cell in words (a bare True/False under the rule's name misleads)."""
+    if _is_na(v):
+        return ""
+    return "✗ breaks it" if bool(v) else "✓ keeps it"
 
 
 def _text_of(v: Any) -> str:

@@ -233,7 +233,7 @@ def parsed(source: str, rows: list[tuple], *, name: str | None = None) -> Parsed
 def clean_table(path: Path) -> CleanTable:
     raw = raw_table(path)
     table = CleanTable(raw, key_column="Member")
-    table = table.with_parsed(parsed("Joined", JOINED, name="Joined on"))
+    table = table.with_parsed(parsed("Joined", JOINED, name="Member since"))
     return table.with_parsed(parsed("Last outing", OUTING))
 
 

@@ -70,14 +70,14 @@ def test_csv_values_are_iso_and_raw_text(club, tmp_path):
     result = export_table(table, out)
     assert result.writer == "csv"
     t = _read_csv_strings(out)
-    assert t.schema.names == ["Member", "Joined on", *HEADERS[2:]]
+    assert t.schema.names == ["Member", "Member since", *HEADERS[2:]]
     assert all(f.type == pa.string() for f in t.schema)
     rows = member_rows(False)
     joined = [
         v.date().isoformat() if s == P else "" if s == B else str(rows[i][1])
         for i, (s, v, _) in enumerate(JOINED)
     ]
-    assert t["Joined on"].to_pylist() == joined
+    assert t["Member since"].to_pylist() == joined
     assert t["Last outing"].to_pylist() == [_outing_text(i) for i in range(len(OUTING))]
     # RFC 3339 §5.8: 1996-12-19T16:39:57-08:00 is 1996-12-20T00:39:57Z
     assert t["Last outing"][2].as_py() == "1996-12-20T00:39:57+00:00"
@@ -97,7 +97,7 @@ def test_csv_layout_options(club, tmp_path):
     assert data.startswith(b"\xef\xbb\xbf")  # UTF-8 byte order mark
     assert b"\r\n" not in data
     t = _read_csv_strings(out, ";")
-    assert t.schema.names[:4] == ["Member", "Joined on", "Joined (raw)", "Fee"]
+    assert t.schema.names[:4] == ["Member", "Member since", "Joined (raw)", "Fee"]
     raw = [str(r[1]) if r[1] is not None else "" for r in member_rows(False)]
     assert t["Joined (raw)"].to_pylist() == raw
 
@@ -171,7 +171,7 @@ def test_parquet_types_and_values(club, tmp_path):
     types = {f.name: f.type for f in t.schema}
     assert list(types) == [
         "Member",
-        "Joined on",
+        "Member since",
         "Joined (raw)",  # kept: a typed column cannot hold the unresolved text
         "Fee",
         "Double fee",
@@ -180,12 +180,12 @@ def test_parquet_types_and_values(club, tmp_path):
         "Last outing (raw)",
         "Renewal",
     ]
-    assert types["Joined on"] == pa.date32()
+    assert types["Member since"] == pa.date32()
     assert types["Last outing"] == pa.timestamp("us")  # mixed offsets: wall clock, with a note
     assert types["Member"] == pa.string() and types["Fee"] == pa.string()
     assert types["Double fee"] == pa.float64() and types["Renewal"] == pa.timestamp("us")
     joined = [v.date() if s == P else None for s, v, _ in JOINED]
-    assert t["Joined on"].to_pylist() == joined
+    assert t["Member since"].to_pylist() == joined
     outing = t["Last outing"].to_pylist()
     assert outing[0] == dt.datetime(2021, 3, 4, 8, 0)  # 10:00+02:00 in UTC
     assert outing[5] == dt.datetime(2022, 7, 1, 12, 30, 15, 250000)  # a hand-set value
@@ -255,7 +255,7 @@ def test_streaming_workbook_round_trip(club, tmp_path):
     assert wb.sheetnames == ["Members", "Unresolved cells"]
     ws = wb["Members"]
     head = [c.value for c in ws[1]]
-    assert head[:3] == ["Member", "Joined on", "Joined (raw)"]
+    assert head[:3] == ["Member", "Member since", "Joined (raw)"]
     raw = table.raw
     for i, (s, v, _) in enumerate(JOINED):
         cell = ws.cell(i + 2, 2)

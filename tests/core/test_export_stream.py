@@ -107,9 +107,9 @@ def test_stream_unresolved_sheet(tmp_path):
     assert book.sheetnames == ["Roster_ Oct_", "Unresolved cells"]  # [ ] : * ? / \ not allowed
     un = list(book["Unresolved cells"].iter_rows(values_only=True))
     want = [
-        ("Roster_ Oct_", "M-004", 6, "Joined on", "soon", JOINED[3][2]),
-        ("Roster_ Oct_", "M-006", 8, "Joined on", "04/05/2020", JOINED[5][2]),
-        ("Roster_ Oct_", "M-009", 11, "Joined on", "=1+1", JOINED[8][2]),
+        ("Roster_ Oct_", "M-004", 6, "Member since", "soon", JOINED[3][2]),
+        ("Roster_ Oct_", "M-006", 8, "Member since", "04/05/2020", JOINED[5][2]),
+        ("Roster_ Oct_", "M-009", 11, "Member since", "=1+1", JOINED[8][2]),
         ("Roster_ Oct_", "M-005", 7, "Last outing", "junk", OUTING[4][4]),
         ("Roster_ Oct_", "M-009", 11, "Last outing", "=A1", OUTING[8][4]),
     ]

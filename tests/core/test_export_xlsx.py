@@ -102,7 +102,7 @@ def test_fixed_cells_are_dates_openpyxl(exported):
     src, out, _, _ = exported
     a = openpyxl.load_workbook(src)["Members"]
     ws = openpyxl.load_workbook(out)["Members"]
-    assert ws.cell(HEADER_ROW, JOINED_COL).value == "Joined on"  # output name
+    assert ws.cell(HEADER_ROW, JOINED_COL).value == "Member since"  # output name
     assert ws.cell(HEADER_ROW, OUTING_COL).value == "Last outing"
     assert "UTC" in ws.cell(HEADER_ROW, OUTING_COL).comment.text  # the note on the zone
     for i, (state, value, _) in enumerate(JOINED):
@@ -200,7 +200,7 @@ def test_round_trip_calamine(exported):
             elif (r, c) in formulas:
                 assert vb == "", (r, c)  # no cached result is written
             elif r == HEADER_ROW and c == JOINED_COL:
-                assert vb == "Joined on"
+                assert vb == "Member since"
             else:
                 assert (type(vb), vb) == (type(va), va), (r, c)
     for sheet in ("Notes", "Lookup"):
@@ -251,9 +251,9 @@ def test_keep_raw_unresolved_and_log_sheets(tmp_path):
     un = list(wb["Unresolved cells"].iter_rows(values_only=True))
     assert un[0] == ("Sheet", "Row key", "Source row", "Column", "Raw value", "Reason")
     want = [
-        ("Members", "M-004", 6, "Joined on", "soon", JOINED[3][2]),
-        ("Members", "M-006", 8, "Joined on", "04/05/2020", JOINED[5][2]),
-        ("Members", "M-009", 11, "Joined on", "=1+1", JOINED[8][2]),
+        ("Members", "M-004", 6, "Member since", "soon", JOINED[3][2]),
+        ("Members", "M-006", 8, "Member since", "04/05/2020", JOINED[5][2]),
+        ("Members", "M-009", 11, "Member since", "=1+1", JOINED[8][2]),
         ("Members", "M-005", 7, "Last outing", "junk", OUTING[4][4]),
         ("Members", "M-009", 11, "Last outing", "=A1", OUTING[8][4]),
     ]
@@ -331,4 +331,4 @@ def test_tsv_target_uses_tabs(tmp_path):
     out = tmp_path / "club.tsv"
     export_table(clean_table(src), out)
     head = out.read_text(encoding="utf-8").splitlines()[0]
-    assert head.split("\t")[:3] == ["Member", "Joined on", "Fee"]
+    assert head.split("\t")[:3] == ["Member", "Member since", "Fee"]

@@ -59,7 +59,7 @@ def _snapshot(table: CleanTable) -> dict:
 EDITS = [
     # (name, edit) — every kind of log edit the session offers
     ("add", lambda s: s.add_step(DatePart("Born"))),
-    ("add at index", lambda s: s.add_step(RenameColumn("Joined", "Joined on"), 0)),
+    ("add at index", lambda s: s.add_step(RenameColumn("Joined", "Member since"), 0)),
     ("remove", lambda s: s.remove_step(2)),
     ("disable", lambda s: s.set_enabled(2, False)),
     ("move", lambda s: s.move_step(2, 0)),

@@ -111,3 +111,25 @@ def test_chart_paints_empty_and_single(qtbot, n):
     w.set_values(np.array(["2026-10-03"] * n, dtype="datetime64[us]"))
     assert len(w.bars) == n
     assert not w.grab().isNull()
+
+
+def test_chart_years_and_quartiles_agree_with_numpy():
+    """The chart's fast year and quartile counts against numpy's own (the reference):
+    np.percentile (linear) and datetime64 → year conversion, including a 9999 sentinel."""
+    from datemend.gui.chart import _quartiles, _years_of
+
+    rng = np.random.default_rng(4)
+    for trial in range(200):
+        n = int(rng.integers(1, 60))
+        years = rng.integers(1890, 2040, n)
+        if trial % 3 == 0:
+            years[: int(rng.integers(0, n))] = 1900  # many placeholders
+        assert np.allclose(_quartiles(years), np.percentile(years, [25, 75])), years
+        days = rng.integers(0, 365, n).astype("timedelta64[D]")
+        v = (years.astype(str).astype("datetime64[Y]").astype("datetime64[D]") + days).astype(
+            "datetime64[us]"
+        )
+        if trial % 5 == 0:
+            v[0] = np.datetime64("9999-12-31", "us")  # a span too long for the day table
+        expected = v.astype("datetime64[Y]").astype(np.int64) + 1970
+        assert np.array_equal(_years_of(v), expected)

@@ -112,6 +112,7 @@ class CellsPane(QWidget):
         hh = self.table.horizontalHeader()
         hh.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         hh.setStretchLastSection(True)
+        hh.setResizeContentsPrecision(0)  # fit widths to the rows in view only, at any size
 
         self.chart = DateSpread()
         self.chart_title = QLabel("<b>Date spread</b> — click a bar to see its rows")

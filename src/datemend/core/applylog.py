@@ -7,7 +7,7 @@ suggestion of every date column.
 
 from __future__ import annotations
 
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
 from pathlib import Path
 from typing import Literal
 
@@ -67,24 +67,31 @@ def apply_log(
     table = CleanTable(raw, key_column=ctx.key_column or log.key_column)
     entries = log.entries
     n = len(entries)
-    i = 0
-    while i < n:
+    for i, j in step_runs(entries):
         if progress is not None:
             progress.report(i, n, f"step {i + 1} of {n}")
-        cls = type(entries[i].step)
-        j = i + 1
-        if entries[i].enabled and cls.apply_many is not Step.apply_many:
-            # a run of steps of one kind that shares work (e.g. many hand-set cells)
-            while j < n and type(entries[j].step) is cls:
-                j += 1
         if j - i > 1:
             table = apply_run(table, entries, i, j, ctx)
         else:
             table = apply_entry(table, entries[i], i + 1, ctx)
-        i = j
     if progress is not None:
         progress.report(n, n, "done")
     return table
+
+
+def step_runs(entries: tuple[LogEntry, ...], start: int = 0) -> Iterator[tuple[int, int]]:
+    """Split entries ``start..`` into runs ``(i, j)`` to apply together: a run of enabled steps
+    of one kind that shares work (e.g. many hand-set cells), else one entry at a time."""
+    n = len(entries)
+    i = start
+    while i < n:
+        cls = type(entries[i].step)
+        j = i + 1
+        if entries[i].enabled and cls.apply_many is not Step.apply_many:
+            while j < n and type(entries[j].step) is cls:
+                j += 1
+        yield i, j
+        i = j
 
 
 def apply_run(

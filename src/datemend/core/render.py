@@ -233,15 +233,7 @@ def column_text(rep: ColumnReport) -> str:
 
 def column_html(rep: ColumnReport) -> str:
     """One column's report in full, as HTML."""
-    out = []
-    for title, content in _column_parts(rep):
-        if title:
-            out.append(f"<h4>{html.escape(title)}</h4>")
-        if isinstance(content, list):
-            out.append("<ul>" + "".join(f"<li>{html.escape(s)}</li>" for s in content) + "</ul>")
-        else:
-            out.append(_html_table(*content))
-    return "".join(out)
+    return _parts_html(_column_parts(rep))
 
 
 # ------------------------------------------------------------------------------ replay reports

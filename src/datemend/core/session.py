@@ -12,7 +12,7 @@ from typing import Any
 
 import numpy as np
 
-from .applylog import apply_entry, apply_run
+from .applylog import apply_entry, apply_run, step_runs
 from .clean import CleanTable, ParsedColumn
 from .fixlog import FixLog, LogEntry
 from .progress import Progress
@@ -70,22 +70,15 @@ class ApplyJob:
         entries = self.log.entries
         n = len(entries)
         self.results = []
-        i = self.start
-        while i < n:
+        for i, j in step_runs(entries, self.start):
             if progress is not None:
                 progress.report(i - self.start, n - self.start, f"step {i + 1} of {n}")
-            cls = type(entries[i].step)
-            j = i + 1
-            if entries[i].enabled and cls.apply_many is not Step.apply_many:
-                while j < n and type(entries[j].step) is cls:
-                    j += 1
             if j - i > 1:
                 table = apply_run(table, entries, i, j, self.ctx)
                 self.results.extend([None] * (j - i - 1))
             else:
                 table = apply_entry(table, entries[i], i + 1, self.ctx)
             self.results.append(table)
-            i = j
         return table
 
 

@@ -235,6 +235,22 @@ def main(argv: list[str] | None = None) -> int:
 
     timed_job("export CSV", lambda: win.export_to(target, ExportOptions(), False))
 
+    # -- Stop while opening: how long until the work really stops ---------------------------
+    for phase in ("Reading", "scanning"):
+        seen = {"t": None, "stopped": None}
+        job = win.open_file(path)
+
+        def progressed(_d: int, _t: int, text: str, job=job, phase=phase, seen=seen) -> None:
+            if seen["t"] is None and phase in text:
+                seen["t"] = time.perf_counter()
+                job.cancel()
+
+        job.progressed.connect(progressed)
+        job.ended.connect(lambda seen=seen: seen.__setitem__("stopped", time.perf_counter()))
+        wait_until(lambda seen=seen: seen["stopped"] is not None)
+        lag = "never asked" if seen["t"] is None else f"{seen['stopped'] - seen['t']:.2f} s"
+        note(f"Stop while {phase.lower()}: until stopped", lag)
+
     note("peak rss", f"{rss_mb():.0f} MB (Python + Qt before opening: {base_rss:.0f} MB)")
     note(
         "DataFrame memory_usage(deep=True)",

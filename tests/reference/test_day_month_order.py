@@ -219,3 +219,33 @@ def test_impossible_numeric_dates_fail_not_roll_over(order: str) -> None:
         assert r.state(i) in (CellState.FAILED, CellState.AMBIGUOUS), r.describe(i)
         assert r.reason(i), r.describe(i)
     assert r.value(len(days) + 1) == as_us(dt.date(2024, 2, 29)), r.describe(len(days) + 1)
+
+
+def test_two_digit_year_first_decided_by_a_value_that_can_only_be_a_year() -> None:
+    # "98-12-31" reads only year first (98 is no day; dateutil gives 1998-12-31 with or without
+    # yearfirst), so the column is YY-MM-DD and "24-01-05" follows it: 2024-01-05
+    # (dateutil yearfirst=True). Reading it 24 January 2005 contradicts the column's evidence.
+    assert du_parser.parse("98-12-31") == du_parser.parse("98-12-31", yearfirst=True)
+    values = ["98-12-31", "24-01-05", "87-06-30"]
+    r = run(values)
+    for i, v in enumerate(values):
+        want = du_parser.parse(v, yearfirst=True)
+        if r.state(i) == CellState.PARSED:
+            assert r.value(i) == as_us(want), r.describe(i)
+        else:
+            assert r.reason(i), r.describe(i)
+    assert r.state(0) == CellState.PARSED, r.describe(0)
+
+
+def test_two_digit_year_first_or_last_undecided_is_not_guessed() -> None:
+    # Every value reads as YY-MM-DD and as DD-MM-YY with different dates (dateutil yearfirst=True
+    # vs default), and no value decides where the year is: ambiguity is never resolved silently
+    # (issue 3 point 4), as for six-digit compact values above.
+    values = ["24-01-05", "23-11-30", "22-07-15"]
+    for v in values:
+        assert du_parser.parse(v) != du_parser.parse(v, yearfirst=True), v
+    r = run(values)
+    if r.parsed is None or not r.report.is_date:
+        return
+    for i in range(len(values)):
+        assert r.state(i) != CellState.PARSED, "guessed: " + r.describe(i)

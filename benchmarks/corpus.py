@@ -157,6 +157,13 @@ def numeric_dates(rng: random.Random, n: int) -> Iterator[LabelledColumn]:
             d = _date(rng, 1970, 2025)
             pairs.append((_numeric(d, order, "/", rng.random() < 0.5, 2), _at(d), None))
         yield _text_col("numeric 2-digit year", f"joined_{order}", pairs)
+    # two-digit year first (YY-MM-DD), years 1970..2025: values like 87-06-30 (no day 87) show
+    # the year is first, so 24-01-05 is 2024-01-05.
+    pairs = []
+    for _ in range(n // 2):
+        d = _date(rng, 1970, 2025)
+        pairs.append((f"{d.year % 100:02d}-{d.month:02d}-{d.day:02d}", _at(d), None))
+    yield _text_col("numeric YY-MM-DD", "renewed_yymmdd", pairs)
 
 
 def dates_of_birth(rng: random.Random, n: int) -> Iterator[LabelledColumn]:

@@ -451,6 +451,9 @@ def test_derive_dialog_previews_and_adds_an_age(qtbot, window, small_csv):
     assert window.column == name
     m = window.cells.model
     assert m.data(m.index(0, m.column_of(Column.RAW))) == "7"
+    window.cells.find.setText("7")  # find works on worked-out numbers too
+    assert m.rowCount() >= 1 and m.data(m.index(0, m.column_of(Column.RAW))) == "7"
+    window.cells.find.clear()
     assert "local law" in window.readings.summary.text()
 
 

@@ -553,9 +553,21 @@ class _Focus:
 
 
 def _derived_as_raw(name: str, values: Any) -> RawColumn:
-    """A worked-out column shown in Cells: its values as text, NA as empty (vectorised)."""
+    """A worked-out column shown in Cells, NA as empty. Numbers and flags stay Python values with
+    their kind (the table formats only the rows in view: no million-string conversion on the
+    GUI thread); dates and anything else become text once."""
+    import pandas as pd
+
     na = values.isna().to_numpy()
-    text = values.astype(str).to_numpy(dtype=object)
-    text[na] = None
-    kinds = np.where(na, CellKind.EMPTY, CellKind.TEXT).astype(np.int8)
-    return RawColumn(name, text, kinds)
+    dtype = values.dtype
+    if pd.api.types.is_bool_dtype(dtype):
+        cells, kind = values.to_numpy(dtype=object), CellKind.BOOL
+    elif pd.api.types.is_integer_dtype(dtype):
+        cells, kind = values.to_numpy(dtype=object), CellKind.INT
+    elif pd.api.types.is_float_dtype(dtype):
+        cells, kind = values.to_numpy(dtype=object), CellKind.FLOAT
+    else:
+        cells, kind = values.astype(str).to_numpy(dtype=object), CellKind.TEXT
+    cells[na] = None
+    kinds = np.where(na, CellKind.EMPTY, kind).astype(np.int8)
+    return RawColumn(name, cells, kinds)

@@ -249,3 +249,17 @@ def test_two_digit_year_first_or_last_undecided_is_not_guessed() -> None:
         return
     for i in range(len(values)):
         assert r.state(i) != CellState.PARSED, "guessed: " + r.describe(i)
+
+
+def test_lone_six_digit_value_in_a_mixed_column_is_not_guessed() -> None:
+    # "080704" reads as YYMMDD (2008-07-04), MMDDYY (2004-08-07) and DDMMYY (2004-07-08)
+    # (datetime.strptime, POSIX two-digit years). The column's other values fix the day order
+    # (12/25/2023: month first) but say nothing of where a six-digit value keeps its year, so
+    # YYMMDD and MMDDYY stay open: flag it (issue 3 point 4).
+    readings = {dt.datetime.strptime("080704", f) for f in ("%y%m%d", "%m%d%y", "%d%m%y")}
+    assert len(readings) == 3
+    values = ["1932/04/29", "11/28/2094 11:05 PM", "1919-154", "080704", "20200113", "12/25/2023"]
+    r = run(values)
+    assert r.parsed is not None
+    assert r.state(3) != CellState.PARSED, "guessed: " + r.describe(3)
+    assert r.reason(3), r.describe(3)

@@ -92,8 +92,10 @@ class ExportOptions:
       needs it: text is always stored as text there.
     - ``streaming``: None picks (stream when the workbook need not be kept); True forces a new
       workbook written row by row; False insists on keeping the workbook.
-    - ``clear_blank_tokens``: cells read as blank (empty, or a placeholder such as "n/a") are
-      written empty; set False to leave placeholders as they were.
+    - ``clear_blank_tokens``: in a fixed column, cells read as blank (empty, whitespace-only,
+      or a placeholder such as "n/a") are written empty; set False to leave placeholders and
+      whitespace-only cells exactly as they were. Cells of columns that were not fixed are
+      always written as read, whitespace-only ones included.
     - ``sheet_name``: sheet name of a new workbook (default: the source sheet's, else "Data").
     """
 
@@ -169,14 +171,29 @@ class DateOut:
         )
 
 
-def prepare_dates(col: ParsedColumn, raw_kinds: np.ndarray, options: ExportOptions) -> DateOut:
-    """Masks and wall-clock values of one fixed column, vectorised."""
+def prepare_dates(
+    col: ParsedColumn,
+    raw_kinds: np.ndarray,
+    options: ExportOptions,
+    raw_values: np.ndarray | None = None,
+) -> DateOut:
+    """Masks and wall-clock values of one fixed column, vectorised.
+
+    With ``clear_blank_tokens`` off, only cells with no value at all are blank; placeholders
+    and whitespace-only cells (given ``raw_values``) are kept as written.
+    """
     state = col.state
     has_value = ~np.isnat(col.value)
     ok = ((state == CellState.PARSED) | (state == CellState.MANUAL)) & has_value
     blank = state == CellState.BLANK
     if not options.clear_blank_tokens:
         blank &= raw_kinds == 0  # CellKind.EMPTY: placeholders stay as written
+        if raw_values is not None and blank.any():
+            idx = np.flatnonzero(blank)
+            spaces = np.fromiter(
+                (isinstance(v, str) and v != "" for v in raw_values[idx]), bool, len(idx)
+            )
+            blank[idx[spaces]] = False  # whitespace-only text stays as written too
     keep = ~ok & ~blank
     date_only = bool(col.date_only or not col.has_time[ok].any())
     # A calendar date is not an instant: moving it to another zone could change the day, so

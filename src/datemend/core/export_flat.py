@@ -18,7 +18,7 @@ from .export import DateOut, ExportOptions, prepare_dates, unique_name, zone_not
 from .progress import Progress
 from .table import CellKind
 
-__all__ = ["FlatColumn", "flat_layout", "iso_text", "python_values", "raw_text"]
+__all__ = ["FlatColumn", "blank_text", "flat_layout", "iso_text", "python_values", "raw_text"]
 
 Counts = tuple[int, int, int, int, list[str]]
 _GUARD = ("=", "+", "-", "@", "\t", "\r")  # OWASP CSV injection: leading characters to neutralise
@@ -61,7 +61,7 @@ def flat_layout(
         if pc is None:
             out.append(FlatColumn(rc.name, rc.values, rc.kinds))
             continue
-        d = prepare_dates(pc, rc.kinds, options)
+        d = prepare_dates(pc, rc.kinds, options, rc.values)
         name = pc.output_name
         if name != rc.name:
             name = unique_name(name, taken)
@@ -79,13 +79,18 @@ def flat_layout(
 
 
 def raw_text(values: np.ndarray, kinds: np.ndarray) -> np.ndarray:
-    """Each raw cell as text ("" for empty), vectorised per kind; dates in ISO 8601."""
+    """Each raw cell as text ("" for empty, a whitespace-only cell's own string), vectorised per
+    kind; dates in ISO 8601."""
     out = np.full(len(values), "", dtype=object)
     for kind in np.unique(kinds):
         m = kinds == kind
         v = values[m]
         if kind in (CellKind.TEXT, CellKind.ERROR):
             out[m] = v
+        elif kind == CellKind.EMPTY:
+            kept = blank_text(v)
+            if kept.any():
+                out[np.flatnonzero(m)[kept]] = v[kept]
         elif kind == CellKind.INT:
             out[m] = pd.Series(v, dtype=object).astype(str).to_numpy(dtype=object)
         elif kind == CellKind.FLOAT:
@@ -99,6 +104,11 @@ def raw_text(values: np.ndarray, kinds: np.ndarray) -> np.ndarray:
         elif kind != CellKind.EMPTY:
             out[m] = [x.isoformat() if hasattr(x, "isoformat") else str(x) for x in v]
     return out
+
+
+def blank_text(values: np.ndarray) -> np.ndarray:
+    """Which of these EMPTY-kind cells hold a string to write back (whitespace-only text)."""
+    return np.fromiter((isinstance(v, str) and v != "" for v in values), bool, len(values))
 
 
 def _float_text(a: np.ndarray) -> np.ndarray:
@@ -329,12 +339,23 @@ def _raw_arrow(col: FlatColumn, notes: list[str]) -> pa.Array:
     assert col.values is not None and col.kinds is not None
     kinds = set(np.unique(col.kinds).tolist()) - {CellKind.EMPTY}
     empty = col.kinds == CellKind.EMPTY
-    values = np.where(empty, None, col.values)
+    spaces = np.zeros(len(empty), dtype=bool)  # whitespace-only cells, kept as text
+    if empty.any():
+        spaces[empty] = blank_text(col.values[empty])
     if kinds == {CellKind.INT, CellKind.FLOAT}:
         kinds = {CellKind.FLOAT}
     if len(kinds) <= 1:
-        typ = _ARROW_KINDS.get(CellKind(kinds.pop())) if kinds else pa.string()
+        kind = kinds.pop() if kinds else CellKind.TEXT
+        typ = _ARROW_KINDS.get(CellKind(kind))
         if typ is not None:
+            if kind in (CellKind.TEXT, CellKind.ERROR):
+                empty = empty & ~spaces
+            elif spaces.any():
+                notes.append(
+                    f'Column "{col.name}": {int(spaces.sum())} cell(s) held only spaces; a '
+                    f"{typ} column cannot hold text, so they are written as nulls."
+                )
+            values = np.where(empty, None, col.values)
             try:
                 return pa.array(values, type=typ, from_pandas=True)
             except (pa.ArrowInvalid, pa.ArrowTypeError, OverflowError, TypeError):
@@ -342,7 +363,7 @@ def _raw_arrow(col: FlatColumn, notes: list[str]) -> pa.Array:
     if kinds and kinds != {CellKind.TEXT, CellKind.ERROR}:
         notes.append(f'Column "{col.name}" mixes kinds of cells; it is written as text.')
     text = raw_text(col.values, col.kinds)
-    return pa.array(np.where(empty, None, text), type=pa.string())
+    return pa.array(np.where(empty & ~spaces, None, text), type=pa.string())
 
 
 def python_values(series: pd.Series, options: ExportOptions) -> tuple[list[object], str | None]:

@@ -24,7 +24,7 @@ import pandas as pd
 
 from .clean import CellState, CleanTable
 from .export import DateOut, ExportOptions, zone_note
-from .export_flat import FlatColumn, flat_layout
+from .export_flat import FlatColumn, blank_text, flat_layout
 from .progress import Progress
 from .table import CellKind
 
@@ -119,12 +119,16 @@ def _serial_cells(
 
 
 def raw_cells(values: np.ndarray, kinds: np.ndarray, refs: np.ndarray, tally: _Tally) -> np.ndarray:
-    """XML of each raw cell, keeping its kind; "" for empty cells."""
+    """XML of each raw cell, keeping its kind; "" for empty cells, a text cell for
+    whitespace-only ones (their string is written back as it was)."""
     out = np.full(len(values), "", dtype=object)
     for kind in np.unique(kinds):
         m = kinds == kind
         v, r = values[m], refs[m]
         if kind == CellKind.EMPTY:
+            kept = blank_text(v)
+            if kept.any():
+                out[np.flatnonzero(m)[kept]] = _text_cells(r[kept], v[kept], tally)
             continue
         if kind == CellKind.TEXT:
             out[m] = _text_cells(r, v, tally)

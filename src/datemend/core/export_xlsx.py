@@ -141,7 +141,7 @@ def write_workbook(
         if source not in raw:
             continue
         rc = raw.column(source)
-        d = prepare_dates(pc, rc.kinds, options)
+        d = prepare_dates(pc, rc.kinds, options, rc.values)
         c = cols_of[source]
         header = ws.cell(hrow, c)
         if options.keep_raw:

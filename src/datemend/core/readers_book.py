@@ -137,12 +137,15 @@ def cell_kinds(flat: np.ndarray) -> tuple[np.ndarray, list[str]]:
 
     Works per distinct Python type (a handful) instead of per cell; blank text is found with
     pyarrow. Changes ``flat`` in place: durations become float days, integral floats become int,
-    blanks become None. tests/core/test_readers_book.py checks it agrees with ``kinds_of``.
+    empty cells and NaN become None; whitespace-only text keeps its string (kind EMPTY, so the
+    engine treats it as blank, and an export writes it back as it was).
+    tests/core/test_readers_book.py checks it agrees with ``kinds_of``.
     """
     notes: list[str] = []
     n = len(flat)
     if n == 0:
         return np.zeros(0, dtype=np.int8), notes
+    keep: np.ndarray | None = None  # whitespace-only text cells: EMPTY, string kept
     codes, uniques = pd.factorize(_type_of(flat), sort=False)
     lut = np.array([_KIND_OF_TYPE.get(t, CellKind.TEXT) for t in uniques], dtype=np.int8)
     kinds = lut[codes]
@@ -152,6 +155,7 @@ def cell_kinds(flat: np.ndarray) -> tuple[np.ndarray, list[str]]:
             arr = pa.array(flat[idx], type=pa.string())
             blank = pc.equal(pc.utf8_trim_whitespace(arr), "").to_numpy(zero_copy_only=False)
             kinds[idx[blank]] = CellKind.EMPTY
+            keep = idx[blank & pc.greater(pc.utf8_length(arr), 0).to_numpy(zero_copy_only=False)]
         elif typ is _dt.timedelta:
             idx = np.flatnonzero(codes == code)
             flat[idx] = [v / _dt.timedelta(days=1) for v in flat[idx]]
@@ -170,7 +174,10 @@ def cell_kinds(flat: np.ndarray) -> tuple[np.ndarray, list[str]]:
         if len(idx):
             flat[idx] = f[whole].astype(np.int64).astype(object)
             kinds[idx] = CellKind.INT
-    flat[kinds == CellKind.EMPTY] = None
+    empty = kinds == CellKind.EMPTY
+    if keep is not None:
+        empty[keep] = False
+    flat[empty] = None
     return kinds, notes
 
 

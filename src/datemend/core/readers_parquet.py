@@ -34,7 +34,9 @@ def _column(arr: pa.ChunkedArray | pa.Array) -> tuple[np.ndarray, np.ndarray]:
             zero_copy_only=False
         )
         kinds = np.where(blank, CellKind.EMPTY, CellKind.TEXT).astype(np.int8)
-        values[blank] = None
+        # nulls and "" have no value; whitespace-only text is kept (kind EMPTY) for export
+        empty = pc.equal(pc.utf8_length(arr.fill_null("")), 0).to_numpy(zero_copy_only=False)
+        values[empty] = None
         return values, kinds
     if pa.types.is_boolean(typ):
         kind = CellKind.BOOL

@@ -174,7 +174,9 @@ def _fast_parse(
     every = pa.chunked_array(chunks, type=pa.string())
     blank = pc.equal(pc.utf8_trim_whitespace(every), "").to_numpy(zero_copy_only=False)
     flat = every.to_numpy(zero_copy_only=False).astype(object, copy=False)
-    flat[blank] = None
+    # An empty field has no value; a whitespace-only one keeps its text (kind EMPTY, so the
+    # engine treats it as blank) so an export can write it back as it was.
+    flat[pc.equal(pc.utf8_length(every), 0).to_numpy(zero_copy_only=False)] = None
     grid = flat.reshape(n_cols, n_rows)
     kind_grid = (
         np.where(blank, CellKind.EMPTY, CellKind.TEXT).astype(np.int8).reshape(n_cols, n_rows)
@@ -210,7 +212,7 @@ def _slow_parse(text: str, delim: str) -> tuple[list[np.ndarray], list[np.ndarra
     for j in range(width):
         col = np.array([r[j] for r in rows], dtype=object)
         blank = pd.Series(col, dtype=object).str.strip().eq("").to_numpy(dtype=bool)
-        col[blank] = None
+        col[col == ""] = None  # whitespace-only fields keep their text (kind EMPTY)
         values.append(col)
         kinds.append(np.where(blank, CellKind.EMPTY, CellKind.TEXT).astype(np.int8))
     return values, kinds, np.asarray(starts, dtype=np.int64)

@@ -84,7 +84,8 @@ class RawColumn:
 
     ``values`` holds Python objects as read: ``str`` for text and error cells, ``int``, ``float``,
     ``bool``, ``datetime.date``, ``datetime.datetime``, ``datetime.time``, and ``None`` for empty.
-    CSV cells are always text (or empty): nothing is coerced.
+    A whitespace-only cell ("   ", a tab, a no-break space) is kind EMPTY but keeps its string,
+    so exports can write it back exactly. CSV cells are always text (or empty): nothing is coerced.
     """
 
     name: str
@@ -98,6 +99,9 @@ class RawColumn:
         """Each cell as text (None for empty), for pattern matching. Vectorised per kind."""
         out = pd.Series(self.values, dtype=object)
         kinds = self.kinds
+        empty = kinds == CellKind.EMPTY
+        if empty.any():  # whitespace-only cells keep their string in ``values``
+            out[empty] = None
         other = (kinds != CellKind.TEXT) & (kinds != CellKind.EMPTY) & (kinds != CellKind.ERROR)
         if other.any():
             out[other] = [_as_text(v) for v in self.values[other]]
@@ -186,8 +190,9 @@ class RawTable:
             seen.add(label)
             values = _object_values(df.iloc[:, i])
             kinds = kinds_of(values, text_only=text_only)
-            if text_only:
-                values = np.where(kinds == CellKind.EMPTY, None, values).astype(object)
+            if text_only:  # "" has no value; whitespace-only text is kept (kind EMPTY)
+                gone = (kinds == CellKind.EMPTY) & pd.Series(values, dtype=object).isin([""])
+                values = np.where(gone.to_numpy(), None, values).astype(object)
             cols.append(RawColumn(label, values, kinds))
         return cls(tuple(cols), facts or SourceFacts())
 

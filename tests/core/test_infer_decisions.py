@@ -5,6 +5,7 @@ sentences are counted by hand from the columns below."""
 from __future__ import annotations
 
 import numpy as np
+import pytest
 
 from datemend.core.clean import CellState
 from datemend.core.infer import scan_column
@@ -201,3 +202,35 @@ def test_spec_with_plausible_years_round_trips_through_json() -> None:
     )
     back = ParseSpec.from_dict(json.loads(json.dumps(spec.to_dict())))
     assert back == spec and hash(back) == hash(spec)
+
+
+# A four-digit whole number among serials is most likely a year written alone: its serial
+# reading (1899-12-30 + N days, ISO/IEC 29500 §18.17.4, by datetime arithmetic) lands in
+# 1902–1908, outside the column's plausible years, so it is not taken silently.
+YEAR_ALONE_ROWS = [
+    (["2024", "45000", "44000"], "text", "1905-07-16", "2024 alone; 1899-12-30 + 2024 days"),
+    ([2024, 45000, 44000], "number", "1905-07-16", "a number cell 2024 among serial cells"),
+    (["1999", "13/02/2020", "14/03/2021"], "text", "1905-06-21", "a year beside D/M/YYYY text"),
+    ([1987.0, 45000.25], "float", "1905-06-09", "a float cell 1987.0: 1899-12-30 + 1987 days"),
+]
+
+
+def test_year_alone_rows_do_not_repeat() -> None:
+    keys = [repr(r[0]) for r in YEAR_ALONE_ROWS]
+    assert len(keys) == len(set(keys))
+
+
+@pytest.mark.parametrize(
+    ("values", "kind", "serial_iso", "why"), YEAR_ALONE_ROWS, ids=[r[3] for r in YEAR_ALONE_ROWS]
+)
+def test_a_year_alone_among_serials_is_not_a_1905_date(
+    values: list[object], kind: str, serial_iso: str, why: str
+) -> None:
+    c = col(values, name="Joined", text=kind == "text")
+    best = scan_column(c, reference_year=2026).best
+    parsed = parse_column(c, best.spec)
+    assert parsed.state[0] == CellState.AMBIGUOUS, why
+    year = str(int(float(values[0])))
+    assert serial_iso in parsed.reason[0] and f"the year {year} alone" in parsed.reason[0]
+    # The dates beside it keep their reading (45000 → 2023-03-15 by date arithmetic).
+    assert (parsed.state[1:] == CellState.PARSED).all()

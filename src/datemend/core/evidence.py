@@ -84,6 +84,28 @@ def choose_patterns(c: Census, ref_year: int) -> list[str]:
                 )
         group = c.rivals if (not digits and c.rivals) else [best]
         if digits:
+            # A later round ties too: "080704" left over after YYYYMMDD is YYMMDD 2008-07-04
+            # and MMDDYY 2004-08-07 alike; neither is taken silently.
+            mine = plausible(best, left)
+            tied = [
+                q
+                for q in options
+                if q != best
+                and weights[q]
+                and (
+                    mine & plausible(q, left) & (c.readings[best].value != c.readings[q].value)
+                ).any()
+            ]
+            if tied:
+                for g in (best, *tied):
+                    if g not in c.rivals:
+                        c.rivals.append(g)
+                group = [best, *tied]
+                names = ", ".join(label(p, date_system=c.facts.date_system) for p in group)
+                c.notes_warn.append(
+                    f"some numbers fit several readings ({names}) and nothing in the column "
+                    "decides; values they read differently stay ambiguous"
+                )
             # A later reading that makes sense of values an earlier one reads only
             # implausibly (121603: serial 2232-12-07, or MMDDYY 2003-12-16) competes with it
             # there: those values stay ambiguous rather than go to whichever comes first.

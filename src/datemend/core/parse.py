@@ -184,7 +184,7 @@ def parse_texts(
         remaining = remaining[~done]
     if len(remaining):
         _explain_unread(out, remaining, norm, spec)
-    if spec.plausible and spec.alternates:
+    if spec.plausible:
         _doubt_numbers(out, norm, feats, spec)
     return out
 
@@ -218,9 +218,13 @@ def _doubt_numbers(out: TextResult, norm: pa.Array, feats: _Features, spec: Pars
     for alt in spec.alternates:
         r = read_pattern(pattern(alt), sub, spec, sub_feats)
         others.append((alt, r))
+    serial_hi = next((hi for pid, _, hi in spec.plausible if pid == "serial"), 0)
+    years_alone = _year_alone(sub, serial_hi)
     for j, i in enumerate(idx):  # per doubtful distinct number (few)
         own = spec.patterns[out.pattern[i]]
         readings = [f"{own_iso[j]} ({label(own, date_system=spec.date_system)})"]
+        if own == "serial" and years_alone[j]:
+            readings.append(f"the year {years_alone[j]} alone, with no month or day")
         for alt, r in others:
             if alt != own and r.ok[j] and r.value[j] != out.value[i].astype(np.int64):
                 v = r.value[j : j + 1].view("datetime64[us]")
@@ -234,6 +238,16 @@ def _doubt_numbers(out: TextResult, norm: pa.Array, feats: _Features, spec: Pars
             )
             out.value[i] = np.datetime64("NaT")
             out.has_time[i] = False
+
+
+def _year_alone(texts: pa.Array, last: int) -> list[str | None]:
+    """The year a whole four-digit number ("2024" or "2024.0", 1850 to ``last``) may stand for
+    alone: read as a serial it lands in 1905–1908, so among real serials it is most likely a
+    year (common practice, no source). 2225 (a 1904-system serial for 1910) is no such year."""
+    hit = pc.extract_regex(texts, r"^(?P<y>[12]\d{3})(?:\.0*)?$")
+    return [
+        None if h is None or not 1850 <= int(h["y"]) <= last else h["y"] for h in hit.to_pylist()
+    ]
 
 
 def _read_rivals(

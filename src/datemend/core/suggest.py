@@ -152,8 +152,14 @@ def likeness_of(c: Census, best: Suggestion, name: str, ref_year: int) -> float:
     numbers (an ID or amount column reads as serials too easily)."""
     if not best.total:
         return 0.0
-    cover = (best.parsed + best.ambiguous) / best.total
     res = parse_sample(c, best.spec)
+    # Numbers left ambiguous by their own serial reading (a year alone, "2024") are no
+    # evidence of dates: a column of them is not a date column.
+    odd = (res.state == CellState.AMBIGUOUS) & c.digit & (res.pattern >= 0)
+    if odd.any():
+        pids = np.array(best.spec.patterns)[res.pattern[odd]]
+        odd[odd] = pids == "serial"
+    cover = (best.parsed + best.ambiguous - _n(c.weights[odd].sum())) / best.total
     parsed = res.state == CellState.PARSED
     w = c.weights
     num_w = _n(w[parsed & c.digit].sum())

@@ -178,7 +178,9 @@ def test_year_first_numeric_is_year_month_day() -> None:
 def test_day_order_decision_is_column_wide_across_patterns() -> None:
     # Issue 3 point 3: a column-wide decision applies to every pattern in the column: a
     # D/M/YYYY value with 25 decides, and D-M-YY values follow it (dateutil dayfirst=True).
-    values = ["25/12/2023", "03/04/2024", "04-05-21", "11/02/2022"]
+    # The D-M-YY value ends in 45 (no day 45), so its year can only be last: only the day
+    # order is open, and the column decides it.
+    values = ["25/12/2023", "03/04/2024", "04-05-45", "11/02/2022"]
     r = run(values)
     for i, v in enumerate(values):
         assert r.state(i) == CellState.PARSED, r.describe(i)

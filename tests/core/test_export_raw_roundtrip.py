@@ -16,6 +16,7 @@ import zipfile
 
 import numpy as np
 import openpyxl
+import pandas as pd
 import pyarrow as pa
 import pyarrow.csv as pacsv
 import pyarrow.parquet as pq
@@ -29,6 +30,7 @@ from datemend.core.patterns import PATTERNS
 from datemend.core.readers import read_table
 from datemend.core.spec import ParseSpec
 from datemend.core.table import CellKind as K
+from datemend.core.table import RawTable
 
 LONG = (
     "Stroke side, " * 2000
@@ -316,3 +318,45 @@ def test_cell_kinds_and_kinds_of_agree_on_whitespace(value, kind, why):
     assert K(kinds_of(np.array([value], dtype=object))[0]) == kind
     # the string is kept unless it is "" (no value at all)
     assert flat[0] == (None if value == "" else value)
+
+
+def test_parquet_keeps_offsets_of_an_untouched_timestamp_column(tmp_path):
+    # A zone-aware timestamp column that is not fixed must keep its instants and its zone:
+    # 12:00 at +02:00 is 10:00 UTC (by hand), never a naive 10:00 or 12:00.
+    plus2 = dt.timezone(dt.timedelta(hours=2))
+    src = tmp_path / "club.parquet"
+    at = [dt.datetime(2024, 1, 1, 12, tzinfo=plus2), None]
+    pq.write_table(pa.table({"t": pa.array(at, type=pa.timestamp("us", tz="+02:00"))}), src)
+    raw = read_table(src)
+    export_table(CleanTable(raw), tmp_path / "o.parquet")
+    t = pq.read_table(tmp_path / "o.parquet")
+    assert t.schema.field("t").type.tz is not None
+    got = t.column("t").to_pylist()
+    assert got[0] == dt.datetime(2024, 1, 1, 10, tzinfo=dt.UTC)
+    assert got[0].utcoffset() == dt.timedelta(hours=2)  # the zone written is the source's
+    assert got[1] is None
+
+
+def test_parquet_writes_mixed_naive_and_zoned_timestamps_as_text(tmp_path):
+    # one timestamp type cannot hold 09:00 (no zone) and 12:00+02:00 as read: text, ISO 8601
+    plus2 = dt.timezone(dt.timedelta(hours=2))
+    df = pd.DataFrame(
+        {"t": pd.Series([dt.datetime(2024, 1, 1, 9), dt.datetime(2024, 1, 1, 12, tzinfo=plus2)])}
+    )
+    raw = RawTable.from_dataframe(df.astype(object))
+    assert [K(k) for k in raw.column("t").kinds] == [K.DATETIME, K.DATETIME]
+    export_table(CleanTable(raw), tmp_path / "o.parquet")
+    t = pq.read_table(tmp_path / "o.parquet")
+    assert t.column("t").to_pylist() == ["2024-01-01T09:00:00", "2024-01-01T12:00:00+02:00"]
+
+
+def test_csv_writes_each_timestamp_with_its_own_offset(tmp_path):
+    # a zoned value after a naive one must keep its offset (RFC 3339 text, written by hand)
+    plus2 = dt.timezone(dt.timedelta(hours=2))
+    df = pd.DataFrame(
+        {"t": [dt.datetime(2024, 1, 1, 9), dt.datetime(2024, 1, 1, 12, tzinfo=plus2)]}
+    )
+    raw = RawTable.from_dataframe(df.astype(object))
+    export_table(CleanTable(raw), tmp_path / "o.csv")
+    body = (tmp_path / "o.csv").read_bytes().decode("utf-8")
+    assert body == "t\r\n2024-01-01T09:00:00\r\n2024-01-01T12:00:00+02:00\r\n"

@@ -127,7 +127,8 @@ def _date_text(v: np.ndarray) -> np.ndarray:
 
 
 def _datetime_text(v: np.ndarray) -> np.ndarray:
-    if any(getattr(x, "tzinfo", None) is not None for x in v[:1]) or not len(v):
+    # any zoned value: every value's own ISO text (numpy would move it to UTC and drop the zone)
+    if not len(v) or any(getattr(x, "tzinfo", None) is not None for x in v):
         return np.array([x.isoformat() for x in v], dtype=object)
     try:
         a = np.asarray(v, dtype="datetime64[us]")
@@ -333,6 +334,18 @@ _ARROW_KINDS = {
 }
 
 
+def _timestamp_type(values: np.ndarray) -> pa.DataType | None:
+    """timestamp[us], with the first value's zone when values carry one: a naive type would
+    silently turn 12:00+02:00 into 10:00 with no offset (other zones keep their instants).
+    None when naive and zoned values are mixed: one type cannot hold both as read."""
+    aware = np.fromiter((getattr(v, "tzinfo", None) is not None for v in values), bool, len(values))
+    if not aware.any():
+        return pa.timestamp("us")
+    if not aware.all():
+        return None
+    return pa.timestamp("us", tz=pa.array(values[:1]).type.tz)
+
+
 def _raw_arrow(col: FlatColumn, notes: list[str]) -> pa.Array:
     """A raw column in its own type when every cell has one kind (ints with floats: float64),
     else as text, with a note."""
@@ -356,8 +369,11 @@ def _raw_arrow(col: FlatColumn, notes: list[str]) -> pa.Array:
                     f"{typ} column cannot hold text, so they are written as nulls."
                 )
             values = np.where(empty, None, col.values)
+            if kind == CellKind.DATETIME:
+                typ = _timestamp_type(values[~empty])
             try:
-                return pa.array(values, type=typ, from_pandas=True)
+                if typ is not None:
+                    return pa.array(values, type=typ, from_pandas=True)
             except (pa.ArrowInvalid, pa.ArrowTypeError, OverflowError, TypeError):
                 pass
     if kinds and kinds != {CellKind.TEXT, CellKind.ERROR}:

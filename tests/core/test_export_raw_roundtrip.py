@@ -360,3 +360,27 @@ def test_csv_writes_each_timestamp_with_its_own_offset(tmp_path):
     export_table(CleanTable(raw), tmp_path / "o.csv")
     body = (tmp_path / "o.csv").read_bytes().decode("utf-8")
     assert body == "t\r\n2024-01-01T09:00:00\r\n2024-01-01T12:00:00+02:00\r\n"
+
+
+def test_kept_workbook_finds_a_renamed_column_past_a_dropped_empty_one(tmp_path):
+    # Sheet columns: A "Name", B (no header, no cells: left out on reading), C "Joined",
+    # D "Joined" (read as "Joined (2)"). Fixing "Joined (2)" must change column D only, by hand.
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Members"
+    ws.append(["Name", None, "Joined", "Joined"])
+    ws.append(["Ann", None, "first", "2024-01-05"])
+    ws.append(["Bo", None, "second", "2023-12-31"])
+    wb.save(tmp_path / "club.xlsx")
+    raw = read_table(tmp_path / "club.xlsx")
+    assert raw.names == ["Name", "Joined", "Joined (2)"]
+    spec = ParseSpec(patterns=tuple(PATTERNS))
+    clean = CleanTable(raw).with_parsed(parse_column(raw.column("Joined (2)"), spec, raw.facts))
+    export_table(clean, tmp_path / "o.xlsx", options=ExportOptions(streaming=False))
+    out = openpyxl.load_workbook(tmp_path / "o.xlsx")["Members"]
+    assert [c.value for c in out[1]] == ["Name", None, "Joined", "Joined"]
+    assert [out.cell(r, 3).value for r in (2, 3)] == ["first", "second"]
+    assert [out.cell(r, 4).value for r in (2, 3)] == [
+        dt.datetime(2024, 1, 5),
+        dt.datetime(2023, 12, 31),
+    ]

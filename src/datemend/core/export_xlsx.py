@@ -273,10 +273,15 @@ def _parts_left_out(source: Path, written: Path) -> list[str]:
 def _locate_columns(
     ws: Any, raw: RawTable, wanted: list[str], hrow: int, where: str
 ) -> dict[str, int]:
-    """Sheet column of each wanted raw column: by a unique header match, else by position.
+    """Sheet column of each wanted raw column: where the reader found it (``column_at``),
+    else by a unique header match, else by position.
 
     Positions are trusted only when every header that does match sits where position says.
+    Whichever way, the cells are checked against what was read before anything is written.
     """
+    known = dict(raw.facts.column_at)
+    if all(name in known for name in wanted):
+        return {name: known[name] for name in wanted}
     headers: dict[str, list[int]] = {}
     if hrow >= 1:
         for cell in ws[hrow]:

@@ -317,5 +317,6 @@ def read_book_table(
         facts,
         header_row=header_row,
         col_labels=labels,
+        col_numbers=[c0 + 1 + j for j in range(width)],
         notes=notes,
     )

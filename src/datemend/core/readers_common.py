@@ -41,11 +41,13 @@ def build_table(
     *,
     header_row: int | None,
     col_labels: Sequence[str] | None = None,
+    col_numbers: Sequence[int] | None = None,
     notes: Sequence[str] = (),
 ) -> RawTable:
     """Pick the header row (first non-empty row unless given), name columns, drop empty edges.
 
     ``col_labels`` names each grid column for messages (spreadsheet letters); CSV uses positions.
+    ``col_numbers`` (workbooks) gives each grid column's 1-based sheet column, kept in the facts.
     Rows above the header are skipped; trailing rows with no cell at all are dropped.
     """
     where = facts.where()
@@ -120,7 +122,10 @@ def build_table(
         RawColumn(name, values[j][data], kinds[j][data])
         for name, j in zip(unique, keep)
     )
-    facts = replace(facts, header_row=header_at, notes=tuple(facts.notes) + tuple(notes))
+    at = tuple((n, int(col_numbers[j])) for n, j in zip(unique, keep)) if col_numbers else ()
+    facts = replace(
+        facts, header_row=header_at, notes=tuple(facts.notes) + tuple(notes), column_at=at
+    )
     return RawTable(cols, facts, np.asarray(row_numbers[data], dtype=np.int64).copy())
 
 

@@ -67,6 +67,9 @@ class SourceFacts:
     date_system: int = 1900  # 1900 or 1904 (spreadsheet serial date system)
     sha256: str | None = None
     notes: tuple[str, ...] = ()  # renamed headers, merged or hidden cells, anything worth saying
+    #: (column name, 1-based sheet column) of each column read from a workbook, so a writer that
+    #: keeps the workbook finds a renamed column even where empty columns were left out.
+    column_at: tuple[tuple[str, int], ...] = ()
 
     @property
     def file_name(self) -> str | None:

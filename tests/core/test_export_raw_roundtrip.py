@@ -384,3 +384,15 @@ def test_kept_workbook_finds_a_renamed_column_past_a_dropped_empty_one(tmp_path)
         dt.datetime(2024, 1, 5),
         dt.datetime(2023, 12, 31),
     ]
+
+
+@pytest.mark.parametrize("target", ["o.csv", "o.xlsx", "o.parquet"])
+def test_new_file_exports_say_rows_above_the_header_are_not_written(tmp_path, target):
+    # the title row above the header is kept by the kept-workbook writer (tested above); a new
+    # file holds only the table, and the result must say so rather than drop it silently
+    raw = read_table(_make_xlsx(tmp_path / "club.xlsx"), header_row=3)
+    opts = ExportOptions(streaming=True)
+    res = export_table(_fix(raw), tmp_path / target, options=opts)
+    assert any("above the header" in n and "not written" in n for n in res.notes), res.notes
+    kept = export_table(_fix(raw), tmp_path / "k.xlsx", options=ExportOptions(streaming=False))
+    assert not any("not written" in n for n in kept.notes)

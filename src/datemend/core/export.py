@@ -28,6 +28,7 @@ import dataclasses
 import errno
 import hashlib
 import os
+import re
 import tempfile
 import zoneinfo
 from collections.abc import Callable, Sequence
@@ -324,12 +325,27 @@ def export_table(
     rows, cols, dates, unresolved, notes = atomic_write(target, write)
     if writer == "workbook" and facts.format == "xlsm" and not keep_vba:
         notes.append("Macros were not copied: an XLSX file cannot hold them (use .xlsm).")
+    if writer != "workbook":
+        notes += _rows_above_note(facts.notes)
     if writer == "streaming" and workbook_source:
         notes.append(
             "Only the table was written, on a new sheet: the source's other sheets, formulas "
             "and formats are not copied by the streaming writer."
         )
     return ExportResult(target, fmt, writer, rows, cols, dates, unresolved, tuple(notes))
+
+
+def _rows_above_note(read_notes: Sequence[str]) -> list[str]:
+    """A new file holds only the table: say so when the reader skipped rows above the header
+    (readers_common words that note "N non-empty row(s) above the header row were skipped")."""
+    for note in read_notes:
+        m = re.match(r"(\d+) non-empty row\(s\) above the header row were skipped", note)
+        if m:
+            return [
+                f"{m.group(1)} non-empty row(s) above the header row in the source are not "
+                "written: a new file holds only the table."
+            ]
+    return []
 
 
 def atomic_write(target: Path, write: Callable[[Path], _T]) -> _T:

@@ -115,7 +115,7 @@ def build_table(
         )
     if dropped:
         notes.append(f"{dropped} empty column(s) with no header were left out.")
-    if h > 0 and int(filled[:h].sum()) > 0:
+    if h > 0 and int(filled[:h].sum()) > 0:  # wording matched by export._rows_above_note
         notes.append(f"{int(filled[:h].sum())} non-empty row(s) above the header row were skipped.")
     cols = tuple(
         # views into the reader's grid: no copy; nothing writes to a RawTable after this

@@ -167,13 +167,50 @@ def test_number_read_plausibly_by_a_later_reading_stays_ambiguous() -> None:
     assert any("fit both serial 1900 and MMDDYY" in w for w in best.warnings)
 
 
-def test_two_digit_year_last_is_an_assumption_when_nothing_shows_it() -> None:
-    # 15/03/24 is 15 March 2024 (year last) or 2015-03-24 (year first): the warning says so;
-    # a last field above 31 (85) can only be a year, and then nothing is said (by hand).
-    warned = scan_column(col(["15/03/24", "13/04/21"]), reference_year=2026).best.warnings
-    assert any("could also be read year first" in w for w in warned)
+def test_two_digit_year_place_undecided_stays_ambiguous() -> None:
+    # 15/03/24 is 15 March 2024 (year last) or 2015-03-24 (year first): nothing in the column
+    # says which, so neither is taken (dateutil parse vs parse(yearfirst=True) differ).
+    c = col(["15/03/24", "13/04/21"])
+    best = scan_column(c, reference_year=2026).best
+    assert any("could stand first (YY/MM/DD) or last" in w for w in best.warnings)
+    parsed = parse_column(c, best.spec)
+    assert (parsed.state == CellState.AMBIGUOUS).all()
+    assert "2024-03-15" in parsed.reason[0] and "2015-03-24" in parsed.reason[0]
     quiet = scan_column(col(["15/03/85", "13/04/21"]), reference_year=2026).best.warnings
-    assert not any("year first" in w for w in quiet)
+    assert not any("could stand first" in w for w in quiet)
+
+
+# Where a two-digit year stands, decided column-wide by a value only one place can read.
+# Expected dates by hand, checked with dateutil.parser.parse(v, yearfirst=...) where noted.
+YEAR_PLACE_ROWS = [
+    (("98/12/31", "24/03/15"), 1, "2024-03-15", "98 is no day or month: year first (yearfirst)"),
+    (("31.12.98", "24.03.15"), 1, "2015-03-24", "98 last shows the year last, 24 is the day"),
+    (("13/04/2021", "24/03/15"), 1, "2015-03-24", "a four-digit year last decides the column"),
+    (("99-01-31", "05-06-07"), 1, "2005-06-07", "99 first: YY-MM-DD (dateutil yearfirst)"),
+    (("24/03/15", "23/12/01"), 0, "AMBIGUOUS", "nothing shows the place: both readings kept"),
+    (("3/4/24", "5/6/23"), 0, "AMBIGUOUS", "one-digit first field: day/month undecided"),
+    (("1993/06/30", "16.4.1900", "25/6/16"), 2, "AMBIGUOUS", "year first and last both seen"),
+    (("2024/03/15", "15/03/24"), 1, "2015-03-24", "the column writes YYYY/MM/DD: year first"),
+]
+
+
+def test_year_place_rows_do_not_repeat() -> None:
+    keys = [r[0] for r in YEAR_PLACE_ROWS]
+    assert len(keys) == len(set(keys))
+
+
+@pytest.mark.parametrize(
+    ("values", "i", "want", "why"), YEAR_PLACE_ROWS, ids=[r[3] for r in YEAR_PLACE_ROWS]
+)
+def test_two_digit_year_place(values: tuple[str, ...], i: int, want: str, why: str) -> None:
+    c = col(list(values))
+    parsed = parse_column(c, scan_column(c, reference_year=2026).best.spec)
+    if want == "AMBIGUOUS":
+        assert parsed.state[i] == CellState.AMBIGUOUS, why
+        assert parsed.reason[i], why
+    else:
+        assert parsed.state[i] == CellState.PARSED, f"{why}: {parsed.reason[i]}"
+        assert parsed.value[i] == np.datetime64(want, "us"), why
 
 
 def test_a_number_outside_plausible_years_with_another_reading_is_ambiguous() -> None:

@@ -127,7 +127,58 @@ def choose_patterns(c: Census, ref_year: int) -> list[str]:
     if not digits and (c.digit & live).any():
         # Numbers but none plausible: keep the serial reading so each one gets a reason.
         digits.append("serial")
+    chosen = _year_place(c, chosen, live)
     return chosen + digits
+
+
+def _any_ok(c: Census, pids: list[str], live: np.ndarray) -> np.ndarray:
+    out = np.zeros(len(live), bool)
+    for p in pids:
+        out |= c.readings[p].ok & live
+    return out
+
+
+def _year_place(c: Census, chosen: list[str], live: np.ndarray) -> list[str]:
+    """Where a two-digit year stands: 24/03/15 is 24 March 2015 (year last) or 2024-03-15
+    (year first). A value only one way can read (98/12/31, 15/03/85, 13/04/2021 with any
+    separator) decides for the whole column; when none does, or both kinds occur, the two stay
+    rivals and the values they read differently stay ambiguous (issue 3 point 4)."""
+    firsts = [p for p in chosen if p.startswith("yymd-")]
+    if not firsts:
+        return chosen
+    lasts = [p for p in chosen if p.startswith("num-")]
+    f_ok = np.zeros(len(live), bool)
+    for p in firsts:
+        f_ok |= c.readings[p].ok & live
+    # A four-digit year first with the same separators (1993/06/30) shows the writer puts the
+    # year first; ISO 8601 dates do not (they sit beside any local form).
+    f_ok |= _any_ok(c, [p for p in chosen if p.startswith("ymd-")], live)
+    l_ok = np.zeros(len(live), bool)
+    for p in lasts:
+        l_ok |= (c.readings[p].ok | c.readings[p].ambiguous) & live
+    only_first = _n(c.weights[f_ok & ~l_ok].sum())
+    only_last = _n(c.weights[l_ok & ~f_ok].sum())
+    out = list(chosen)
+    if only_first and not only_last:
+        for p in firsts:
+            rival = "num-" + p.split("-")[1]
+            if rival in out and not (c.readings[rival].ok & live & ~f_ok).any():
+                out.remove(rival)
+        c.notes_evidence.append(
+            f"year first (YY/MM/DD): {only_first} values can only be read with the year first"
+        )
+        return out
+    if (only_last and not only_first) or not (f_ok & l_ok).any():
+        return [p for p in out if p not in firsts]
+    pairs = [(f"num-{p.split('-')[1]}", p) for p in firsts if f"num-{p.split('-')[1]}" in out]
+    for pair in pairs:
+        c.rivals.extend(p for p in pair if p not in c.rivals)
+    c.notes_warn.append(
+        "two-digit years could stand first (YY/MM/DD) or last (D/M/YY or M/D/YY) and "
+        + ("the column has values of both kinds" if only_first else "no value shows which")
+        + "; values the two read differently stay ambiguous"
+    )
+    return out
 
 
 def decide_day_order(
@@ -221,13 +272,7 @@ def decide_century(
         if PATTERNS[p].uses_day_order:
             short_last += _n(c.weights[m].sum())
             any_big_last |= bool((m & (r.year % 100 > 31)).any())
-    if short_last and not any_big_last:
-        # 15/03/24 is 15 March 2024 read year last, or 2015-03-24 read year first; the year
-        # is taken to be last (common practice, no source), and the user is told.
-        c.notes_warn.append(
-            f"{short_last} dates with a two-digit year could also be read year first "
-            "(YY/MM/DD); no last field above 31 shows the year is last, which is assumed"
-        )
+    # Whether a two-digit year stands first or last is decided in ``_year_place``.
     c.two_digit_years = two > 0
     if not two:
         return "posix", None, ["default"]

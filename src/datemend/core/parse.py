@@ -299,6 +299,26 @@ def _read_rivals(
             "could be " + " or ".join(t for t in row if t) + "; nothing in the column decides"
             for row in zip(*texts_by, strict=True)
         ]
+    # A rival that is itself undecided (24/01/05 read D/M/YY or M/D/YY) keeps the cell open
+    # even where another rival (YY/MM/DD) reads it: taking that one would be a guess.
+    own = np.zeros(n, bool)
+    for _, _, r in reads:
+        own |= r.ambiguous & ~conflict & ~own
+        if (r.ambiguous & ~conflict).any():
+            ia = np.flatnonzero(r.ambiguous & ~conflict & (comb.reason == None))  # noqa: E711
+            comb.reason[ia] = r.reason[ia]
+    if own.any():
+        for _, pid, r in reads:
+            io = np.flatnonzero(own & r.ok)
+            if len(io):
+                iso = iso_text(r.value[io].view("datetime64[us]"), r.offset[io], r.has_time[io])
+                lab = label(pid, date_system=spec.date_system)
+                comb.reason[io] = [
+                    f"could be {t} ({lab}), or " + str(why).removeprefix("could be ")
+                    for t, why in zip(iso, comb.reason[io], strict=True)
+                ]
+        ks[own & (ks < 0)] = next(k for k, pid, r in reads if r.ambiguous.any())
+        conflict |= own
     comb.ambiguous = conflict
     comb.ok &= ~conflict
     return comb, ks

@@ -22,6 +22,9 @@ Pattern ids (JSON-safe, never renamed):
 ``num-slash``      day and month in the order the spec says, then the year: ``12/4/1985``,
                    ``4/12/85``; likewise ``num-dash`` (``12-04-1985``), ``num-dot``
                    (``12.04.1985``) and ``num-space`` (``12 04 1985``)
+``yymd-slash``     a two-digit year first: ``85/04/12``; likewise ``yymd-dash``
+                   (``85-04-12``) and ``yymd-dot`` (``85.04.12``); where nothing in the
+                   column shows the year's place, ``num-*`` and these stay rivals
 ``name-dmy``       ``12 April 1985``, ``Fri 12th Apr 85``, ``12-avr.-1985``, ``12. März 1985``
 ``name-mdy``       ``April 12, 1985``, ``Friday, Apr 12th 1985``
 ``name-ymd``       ``1985 Apr 12``, ``1985-apr-12``
@@ -95,6 +98,18 @@ def _ymd(sep_id: str, sep: str, shown: str) -> Pattern:
         "numeric",
         "ymd",
         rf"^(?P<y>\d{{4}}){sep}(?P<m>\d{{1,2}}){sep}(?P<d>\d{{1,2}}){_TZ}",
+    )
+
+
+def _yymd(sep_id: str, sep: str, shown: str) -> Pattern:
+    # Two-digit year first (24/03/15 for 2024-03-15): a rival of num-* on the same texts.
+    return Pattern(
+        f"yymd-{sep_id}",
+        f"YY{shown}MM{shown}DD",
+        "numeric",
+        "ymd",
+        rf"^(?P<y>\d{{2}}){sep}(?P<m>\d{{1,2}}){sep}(?P<d>\d{{1,2}}){_TZ}",
+        (f"num-{sep_id}",),
     )
 
 
@@ -182,6 +197,9 @@ _ALL = [
     _num("dash", "-", "-"),
     _num("dot", r"\.", "."),
     _num("space", " ", " "),
+    _yymd("slash", "/", "/"),
+    _yymd("dash", "-", "-"),
+    _yymd("dot", r"\.", "."),
     Pattern(
         "rfc5322",
         "RFC 5322",
@@ -260,6 +278,9 @@ _NEEDS = {
     "ymd-space": ("space",),
     "num-space": ("space",),
     "num-dash": ("dash",),
+    "yymd-slash": ("slash",),
+    "yymd-dash": ("dash",),
+    "yymd-dot": ("dot",),
     "rfc5322": ("alpha",),
     "name-dmy": ("alpha",),
     "name-mdy": ("alpha",),
@@ -450,6 +471,9 @@ def render(
             if offset_min is not None:
                 out += _offset_text(offset_min, "basic" if offset_style != "Z" else "Z")
             tail = ""
+    elif p.id.startswith("yymd-"):
+        sep = p.label[2]
+        out = f"{dt.year % 100:02d}{sep}{mm}{sep}{dd}"
     elif p.kind == "ymd":
         sep = {"ymd-slash": "/", "ymd-dot": ".", "ymd-space": " "}[p.id]
         out = f"{y4}{sep}{mm}{sep}{dd}"
@@ -503,4 +527,5 @@ def _render_named(
         return f"{wd}{dd} {mon} {yy}"
     if pid == "name-mdy":
         return f"{wd}{mon} {dd}, {yy}"
-    return f"{yy} {mon} {dd}"
+    # name-ymd reads a four-digit year only: "23 märz 25" would be D Month YY to any reader.
+    return f"{dt.year:04d} {mon} {dd}"

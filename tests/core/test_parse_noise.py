@@ -54,6 +54,10 @@ ROWS = [
     ("-", "BLANK: treated as blank", "a dash token"),
     ('""', "FAILED: only punctuation", "only quotes: not empty, so not blank"),
     ("TBD", "FAILED: no pattern", "not a blank token in this spec: it fails, visibly"),
+    # Words around a date change what it means: read nothing rather than a guess.
+    ("12/03/2024 (approx)", "FAILED: no pattern", "an approximate date is not that day"),
+    ("c. 1990", "FAILED: no pattern", "circa a year: no day to give"),
+    ("2024-03-12?", "FAILED: no pattern", "a doubted date stays unread"),
 ]
 
 
@@ -148,3 +152,24 @@ def test_a_written_midnight_is_still_an_instant_for_zones() -> None:
     )
     got = read(["2021-07-01T00:00:00"], spec)
     assert got == [("PARSED", want.replace(tzinfo=None).isoformat() + "-07:00")]
+
+
+GERMAN = ParseSpec(patterns=("name-dmy",), locales=("de",))
+
+
+@pytest.mark.parametrize(
+    ("text", "expected", "why"),
+    [
+        ("23. März 2025 10:00", "PARSED: 2025-03-23T10:00:00", "CLDR de long form: day dot"),
+        ("25 märz 23. 9:36 pm", "FAILED: no pattern", "23. is a day (ordinal dot): YY Month D."),
+    ],
+    ids=["day dot first", "day dot last"],
+)
+def test_german_day_dot_says_which_field_is_the_day(text: str, expected: str, why: str) -> None:
+    # babel format_date(date(1985, 4, 12), "long", locale="de") == "12. April 1985": the dot
+    # marks the day. A dot after the last field makes that one the day, a form no pattern
+    # reads, so it fails visibly instead of becoming 25 March 2023.
+    ((state, got),) = read([text], GERMAN)
+    want, words = expected.split(": ", 1)
+    assert state == want, f"{why}; got {got}"
+    assert words in got, why

@@ -83,6 +83,10 @@ def _normalise_messy(t: pa.Array) -> pa.Array:
     # a.m. / p.m. / a. m. → am / pm
     t = pc.replace_substring_regex(t, r"([ \d])([ap])(?:\.|\. )?m\.?( |$)", r"\1\2m\3")
     t = pc.replace_substring_regex(t, ORDINAL_SUFFIX_RE, r"\1\2")
+    # "25 märz 23. 9:36": a day's ordinal dot where the year would stand says 23 is a day and
+    # 25 a two-digit year; no pattern reads that order, so it is kept unread, not taken as
+    # 25 March 2023 (the doubled dot matches nothing).
+    t = pc.replace_substring_regex(t, r"(\pL) (0?[1-9]|[12]\d|3[01])\. (\d)", r"\1 \2.. \3")
     t = pc.replace_substring_regex(t, r"(\d)\. ", r"\1 ")  # German ordinal dot: "12. März"
     t = pc.replace_substring_regex(t, r"(\pL)\.", r"\1 ")  # abbreviation dots: "févr."
     t = pc.replace_substring_regex(t, r"(\pL),", r"\1 ")

@@ -396,3 +396,17 @@ def test_new_file_exports_say_rows_above_the_header_are_not_written(tmp_path, ta
     assert any("above the header" in n and "not written" in n for n in res.notes), res.notes
     kept = export_table(_fix(raw), tmp_path / "k.xlsx", options=ExportOptions(streaming=False))
     assert not any("not written" in n for n in kept.notes)
+
+
+def test_parquet_writes_dates_among_datetimes_as_timestamps(tmp_path):
+    # a workbook reader gives a midnight date-time cell as a date: the column mixes DATE and
+    # DATETIME cells, which one timestamp column holds exactly (a date is its midnight), as
+    # INT among FLOAT cells is written float64 — not the whole column as text
+    at = [dt.datetime(2024, 2, 29, 23, 59, 59, 500000), dt.date(2024, 1, 1), None]
+    raw = RawTable.from_dataframe(pd.DataFrame({"t": pd.Series(at, dtype=object)}))
+    assert [K(k) for k in raw.column("t").kinds] == [K.DATETIME, K.DATE, K.EMPTY]
+    res = export_table(CleanTable(raw), tmp_path / "o.parquet")
+    t = pq.read_table(tmp_path / "o.parquet")
+    assert t.schema.field("t").type == pa.timestamp("us")
+    assert t.column("t").to_pylist() == [at[0], dt.datetime(2024, 1, 1), None]
+    assert not any("mixes kinds" in n for n in res.notes)

@@ -346,6 +346,14 @@ def _timestamp_type(values: np.ndarray) -> pa.DataType | None:
     return pa.timestamp("us", tz=pa.array(values[:1]).type.tz)
 
 
+def _naive_micros(values: np.ndarray) -> np.ndarray:
+    """Naive date and datetime objects (None for empty) as datetime64[us]; dates at midnight."""
+    out = np.full(len(values), np.datetime64("NaT"), dtype="datetime64[us]")
+    ok = np.fromiter((v is not None for v in values), bool, len(values))
+    out[ok] = np.asarray(list(values[ok]), dtype="datetime64[us]")
+    return out
+
+
 def _raw_arrow(col: FlatColumn, notes: list[str]) -> pa.Array:
     """A raw column in its own type when every cell has one kind (ints with floats: float64),
     else as text, with a note."""
@@ -357,6 +365,8 @@ def _raw_arrow(col: FlatColumn, notes: list[str]) -> pa.Array:
         spaces[empty] = blank_text(col.values[empty])
     if kinds == {CellKind.INT, CellKind.FLOAT}:
         kinds = {CellKind.FLOAT}
+    if kinds == {CellKind.DATE, CellKind.DATETIME}:
+        kinds = {CellKind.DATETIME}  # a date is its midnight; zoned values are checked below
     if len(kinds) <= 1:
         kind = kinds.pop() if kinds else CellKind.TEXT
         typ = _ARROW_KINDS.get(CellKind(kind))
@@ -371,6 +381,8 @@ def _raw_arrow(col: FlatColumn, notes: list[str]) -> pa.Array:
             values = np.where(empty, None, col.values)
             if kind == CellKind.DATETIME:
                 typ = _timestamp_type(values[~empty])
+                if typ is not None and typ.tz is None:
+                    values = _naive_micros(values)
             try:
                 if typ is not None:
                     return pa.array(values, type=typ, from_pandas=True)

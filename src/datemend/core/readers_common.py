@@ -48,7 +48,9 @@ def build_table(
 
     ``col_labels`` names each grid column for messages (spreadsheet letters); CSV uses positions.
     ``col_numbers`` (workbooks) gives each grid column's 1-based sheet column, kept in the facts.
-    Rows above the header are skipped; trailing rows with no cell at all are dropped.
+    Rows above the header are skipped; trailing rows with no cell at all are dropped. Here a
+    whitespace-only cell counts as empty (its kind is EMPTY), so a trailing row or a headerless
+    column holding only whitespace is dropped too.
     """
     where = facts.where()
     n_cols = len(values)

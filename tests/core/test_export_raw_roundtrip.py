@@ -410,3 +410,15 @@ def test_parquet_writes_dates_among_datetimes_as_timestamps(tmp_path):
     assert t.schema.field("t").type == pa.timestamp("us")
     assert t.column("t").to_pylist() == [at[0], dt.datetime(2024, 1, 1), None]
     assert not any("mixes kinds" in n for n in res.notes)
+
+
+def test_streaming_xlsx_keeps_text_longer_than_a_cell_shows_and_says_so(tmp_path):
+    # spreadsheet programs hold at most 32,767 characters in a cell (value from memory of their
+    # published limits): the text is written whole, and the result warns that it may be cut
+    src = tmp_path / "club.csv"
+    long = "x" * 40_000
+    src.write_text(f"id,note\n1,{long}\n2,short\n", "utf-8")
+    res = export_table(CleanTable(read_table(src)), tmp_path / "o.xlsx")
+    rows = CalamineWorkbook.from_path(str(tmp_path / "o.xlsx")).get_sheet_by_index(0).to_python()
+    assert rows[1][1] == long
+    assert any("1 text cell" in n and "32,767" in n for n in res.notes), res.notes

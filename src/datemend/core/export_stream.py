@@ -47,10 +47,16 @@ _REASON = {
 }
 
 
+#: Most characters spreadsheet programs keep in one cell (value from memory of their published
+#: limits; ISO/IEC 29500 sets none). Longer text is written whole, with a note.
+MAX_CELL_TEXT = 32_767
+
+
 @dataclass
 class _Tally:
     replaced: int = 0  # text cells with characters XML cannot hold
     early: int = 0  # dates before 1900-01-01 written as text
+    long: int = 0  # text cells longer than spreadsheet programs show in one cell
 
 
 def serials(values: np.ndarray) -> np.ndarray:
@@ -82,12 +88,14 @@ def _text_cells(refs: np.ndarray, text: np.ndarray, tally: _Tally) -> np.ndarray
         if bad.any():
             tally.replaced += int(bad.sum())
             s[bad] = s[bad].str.replace(_ILLEGAL_NO_SURROGATES, "\ufffd", regex=True)
+        tally.long += int((s.str.len() > MAX_CELL_TEXT).sum())
         s = s.str.replace("&", "&amp;").str.replace("<", "&lt;").str.replace(">", "&gt;")
         body = s.to_numpy(dtype=object)
     return refs + '" t="inlineStr"><is><t xml:space="preserve">' + body + "</t></is></c>"
 
 
 def _escape_one(t: str, tally: _Tally) -> str:
+    tally.long += len(t) > MAX_CELL_TEXT
     if _ILLEGAL.search(t):
         tally.replaced += 1
         t = _ILLEGAL.sub("\ufffd", t)
@@ -329,6 +337,12 @@ def write_stream(
         notes.append(
             f"{tally.replaced} text cells held control characters an XLSX file cannot store; "
             "they were replaced by \ufffd."
+        )
+    if tally.long:
+        notes.append(
+            f"{tally.long} text cell(s) are longer than the {MAX_CELL_TEXT:,} characters "
+            "spreadsheet programs show in a cell; they are written whole, but a spreadsheet "
+            "program may cut them when it opens the file (CSV or Parquet keep them)."
         )
     return n, len(layout), dates, unresolved, notes
 

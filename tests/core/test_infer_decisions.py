@@ -96,7 +96,7 @@ def test_past_events_never_land_in_the_future() -> None:
     best = scan_column(c, reference_year=2026).best
     assert (best.spec.century, best.spec.pivot_year) == ("past", 2026)
     assert best.decisions["century"] == "evidence"
-    assert any("would fall after 2026" in e for e in best.evidence)
+    assert any('column name "Registered" suggests past events' in e for e in best.evidence)
     parsed = parse_column(c, best.spec)
     assert parsed.value[1] == np.datetime64("1930-12-25", "us")
     assert (parsed.value <= np.datetime64("2026-12-31", "us")).all()
@@ -271,3 +271,37 @@ def test_a_year_alone_among_serials_is_not_a_1905_date(
     assert serial_iso in parsed.reason[0] and f"the year {year} alone" in parsed.reason[0]
     # The dates beside it keep their reading (45000 → 2023-03-15 by date arithmetic).
     assert (parsed.state[1:] == CellState.PARSED).all()
+
+
+# Two-digit years where the POSIX rule (69–99 → 1900s, 00–68 → 2000s; REFERENCES.md, ISO C
+# strptime) and the past-events rule (latest year not after 2026) differ: years 27–68.
+CENTURY_ROWS = [
+    ("Renewal due", "30/06/30", "2030-06-30", "a due date is ahead: POSIX, by the column name"),
+    ("Expires", "31/12/45", "2045-12-31", "an expiry date is ahead: POSIX, by the column name"),
+    ("Registered", "25/12/30", "1930-12-25", "registrations are past events: 1930"),
+    ("Code", "25/12/30", "AMBIGUOUS", "no hint: 1930 or 2030, nothing decides"),
+]
+
+
+def test_century_rows_do_not_repeat() -> None:
+    keys = [(r[0], r[1]) for r in CENTURY_ROWS]
+    assert len(keys) == len(set(keys))
+
+
+@pytest.mark.parametrize(
+    ("name", "text", "want", "why"), CENTURY_ROWS, ids=[r[3] for r in CENTURY_ROWS]
+)
+def test_two_digit_year_century_is_never_a_silent_guess(
+    name: str, text: str, want: str, why: str
+) -> None:
+    # 13/4/85 shows the year is last and the day first; it is 1985 under both rules.
+    c = col(["13/4/85", text], name=name)
+    best = scan_column(c, reference_year=2026).best
+    parsed = parse_column(c, best.spec)
+    assert parsed.value[0] == np.datetime64("1985-04-13", "us")
+    if want == "AMBIGUOUS":
+        assert parsed.state[1] == CellState.AMBIGUOUS, why
+        assert "1930" in parsed.reason[1] and "2030" in parsed.reason[1], parsed.reason[1]
+    else:
+        assert parsed.state[1] == CellState.PARSED, f"{why}: {parsed.reason[1]}"
+        assert parsed.value[1] == np.datetime64(want, "us"), why

@@ -30,6 +30,8 @@ _PAST_HINT = re.compile(
     r"signed|issued|founded|first",
     re.I,
 )
+#: Column names of dates ahead: renewals, expiries, deadlines (common practice, no source).
+_FUTURE_HINT = re.compile(r"due|expir|renew|deadline|valid|until|next|review|maturity", re.I)
 
 
 def choose_patterns(c: Census, ref_year: int) -> list[str]:
@@ -276,18 +278,28 @@ def decide_century(
     c.two_digit_years = two > 0
     if not two:
         return "posix", None, ["default"]
-    if future:
+    past_hint = bool(_PAST_HINT.search(name or ""))
+    if future and not past_hint and _FUTURE_HINT.search(name or ""):
         return (
-            "past",
-            ref_year,
+            "posix",
+            None,
             [
                 "evidence",
-                f"two-digit years: by the POSIX rule {future} of {two} values would fall after "
-                f"{ref_year}; read as past events, each year is the latest not after {ref_year} "
-                "ending in those digits",
+                f'two-digit years: the column name "{name}" suggests dates ahead (common '
+                "practice, no source), so they are read by the POSIX rule: 69–99 → 1969–1999, "
+                "00–68 → 2000–2068",
             ],
         )
-    if _PAST_HINT.search(name or ""):
+    if future and not past_hint:
+        # 25/12/30 is 1930 for a past event and 2030 for one ahead: the values alone do not
+        # say which, so those stay ambiguous; the two rules are offered as suggestions.
+        c.notes_warn.append(
+            f"two-digit years: {future} of {two} values fall after {ref_year} by the POSIX rule "
+            f"and before it as past events; nothing says which, so they stay ambiguous until a "
+            "rule is chosen"
+        )
+        return ("either", ref_year, ["undecided"])
+    if past_hint:
         return (
             "past",
             ref_year,

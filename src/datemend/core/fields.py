@@ -143,10 +143,12 @@ def _fraction_us(f: pa.Array | None, n: int) -> np.ndarray:
     return _ints(padded, 0)
 
 
-def _century(y: np.ndarray, two: np.ndarray, spec: ParseSpec) -> np.ndarray:
+def _century(
+    y: np.ndarray, two: np.ndarray, spec: ParseSpec, rule: str | None = None
+) -> np.ndarray:
     if not two.any():
         return y
-    if spec.century == "past":
+    if (rule or spec.century) in ("past", "either"):
         pivot = int(spec.pivot_year or 0)
         full = pivot - ((pivot - y) % 100)
     else:  # POSIX / ISO C: 69–99 → 19xx, 00–68 → 20xx
@@ -344,6 +346,7 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
     y = _ints(yf, 0)
     if yf is not None:
         two = _lens(yf) == 2
+    y_posix = _century(y, two, spec, "posix") if spec.century == "either" else None
     y = _century(y, two, spec)
     chk = _Check(k, live)
     wd_given = np.full(k, -1, dtype=np.int64)
@@ -457,11 +460,27 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
                 f"is a {_WEEKDAYS[actual[i]]}"
             ),
         )
+    cent = np.zeros(k, dtype=bool)
+    if y_posix is not None:
+        # Both centuries name a real day alike (1900s and 2000s years 27–68 share leap years).
+        cent = (y_posix != y) & ~chk.bad & ~amb
+        amb = amb | cent
     amb &= ~chk.bad
     ok = ~chk.bad & ~amb
     reason = chk.reason
+    if cent.any() and _explaining():
+        ic = np.flatnonzero(cent & amb)
+        reason[ic] = np.array(
+            [
+                f"could be {_date_name(y[i], m[i], d[i])} or "
+                f"{_date_name(y_posix[i], m[i], d[i])}; nothing in the column says which "
+                "century a two-digit year is in"
+                for i in ic
+            ],
+            dtype=object,
+        )
     if amb.any() and _explaining():
-        ia = np.flatnonzero(amb)
+        ia = np.flatnonzero(amb & ~cent)
         reason[ia] = np.array(
             [
                 f"could be {_date_name(y[i], b[i], a[i])} (day first) or "

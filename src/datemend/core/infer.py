@@ -237,13 +237,17 @@ def _alternatives(
                 )
             )
     if census.two_digit_years:
-        if base.century == "posix":
-            alt = _evolve(base, century="past", pivot_year=ref_year)
-            note = f"two-digit years put in the latest century not after {ref_year}"
-        else:
-            alt = _evolve(base, century="posix", pivot_year=None)
-            note = "two-digit years by the POSIX rule (69–99 → 1900s, 00–68 → 2000s)"
-        out.append((alt, 0.8, dict(decisions, century="preference"), [note], []))
+        past = (
+            _evolve(base, century="past", pivot_year=ref_year),
+            f"two-digit years put in the latest century not after {ref_year}",
+        )
+        posix = (
+            _evolve(base, century="posix", pivot_year=None),
+            "two-digit years by the POSIX rule (69–99 → 1900s, 00–68 → 2000s)",
+        )
+        alts = {"posix": [past], "past": [posix]}.get(base.century, [past, posix])
+        for alt, note in alts:
+            out.append((alt, 0.8, dict(decisions, century="preference"), [note], []))
     if census.aware:
         out.append(
             (

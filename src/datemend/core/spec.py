@@ -19,7 +19,9 @@ DAY_ORDERS = ("dmy", "mdy", None)
 #: - "posix": 69–99 → 1969–1999, 00–68 → 2000–2068 (POSIX strptime, ISO C).
 #: - "past": the latest year not after ``pivot_year`` ending in those two digits (for dates of
 #:   birth, start dates: never in the future as of ``pivot_year``).
-CENTURY_RULES = ("posix", "past")
+#: - "either": undecided; a two-digit year the two rules above read differently (27–68 with
+#:   pivot 2026) leaves its cell AMBIGUOUS with both readings. Needs ``pivot_year``.
+CENTURY_RULES = ("posix", "past", "either")
 
 
 @dataclass(frozen=True)
@@ -59,8 +61,8 @@ class ParseSpec:
             raise ValueError(f"day_order must be one of {DAY_ORDERS}, not {self.day_order!r}")
         if self.century not in CENTURY_RULES:
             raise ValueError(f"century must be one of {CENTURY_RULES}, not {self.century!r}")
-        if self.century == "past" and self.pivot_year is None:
-            raise ValueError('century rule "past" needs a pivot_year')
+        if self.century in ("past", "either") and self.pivot_year is None:
+            raise ValueError(f'century rule "{self.century}" needs a pivot_year')
         if self.date_system not in (1900, 1904):
             raise ValueError(f"date_system must be 1900 or 1904, not {self.date_system!r}")
 

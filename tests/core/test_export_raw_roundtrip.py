@@ -422,3 +422,13 @@ def test_streaming_xlsx_keeps_text_longer_than_a_cell_shows_and_says_so(tmp_path
     rows = CalamineWorkbook.from_path(str(tmp_path / "o.xlsx")).get_sheet_by_index(0).to_python()
     assert rows[1][1] == long
     assert any("1 text cell" in n and "32,767" in n for n in res.notes), res.notes
+
+
+def test_ragged_csv_keeps_whitespace_too(tmp_path):
+    # a short row sends the reader to its standard-library path, which must keep them as well
+    src = tmp_path / "rag.csv"
+    src.write_bytes(b"a,b\n1,   \n2\n3,\t,x\n")
+    raw = read_table(src)
+    assert list(raw.column("b").values) == ["   ", None, "\t"]
+    assert [K(k) for k in raw.column("b").kinds] == [K.EMPTY, K.EMPTY, K.EMPTY]
+    assert list(raw.column("column 3").values) == [None, None, "x"]

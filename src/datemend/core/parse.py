@@ -297,8 +297,12 @@ def _read_rivals(
         texts_by = []
         for _, pid, r in reads:
             iso = iso_text(r.value[idx].view("datetime64[us]"), r.offset[idx], r.has_time[idx])
-            lab = label(pid, day_order=spec.day_order, date_system=spec.date_system)
-            texts_by.append(np.where(r.ok[idx], [f"{t} ({lab})" for t in iso], ""))
+            kw = {"day_order": spec.day_order, "date_system": spec.date_system}
+            labs = np.where(
+                r.two_digit[idx], label(pid, two_digit_year=True, **kw), label(pid, **kw)
+            )
+            shown = [f"{t} ({lab})" for t, lab in zip(iso, labs, strict=True)]
+            texts_by.append(np.where(r.ok[idx], shown, ""))
         comb.reason[idx] = [
             "could be " + " or ".join(t for t in row if t) + "; nothing in the column decides"
             for row in zip(*texts_by, strict=True)

@@ -432,3 +432,23 @@ def test_ragged_csv_keeps_whitespace_too(tmp_path):
     assert list(raw.column("b").values) == ["   ", None, "\t"]
     assert [K(k) for k in raw.column("b").kinds] == [K.EMPTY, K.EMPTY, K.EMPTY]
     assert list(raw.column("column 3").values) == [None, None, "x"]
+
+
+def test_kept_workbook_zone_suffix_goes_on_the_source_header_text(tmp_path):
+    # "Joined" twice: the second is read as "Joined (2)"; with zone_in_header the written header
+    # is the sheet's own text plus the zone, "Joined (UTC)", never "Joined (2) (UTC)"
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Members"
+    ws.append(["Name", "Joined", "Joined"])
+    ws.append(["Ann", "x", "2024-01-05T10:00:00+02:00"])
+    wb.save(tmp_path / "club.xlsx")
+    raw = read_table(tmp_path / "club.xlsx")
+    spec = ParseSpec(patterns=tuple(PATTERNS))
+    clean = CleanTable(raw).with_parsed(parse_column(raw.column("Joined (2)"), spec, raw.facts))
+    assert clean.parsed["Joined (2)"].offset_min[0] == 120  # read with its offset
+    opts = ExportOptions(streaming=False, zone_in_header=True)
+    export_table(clean, tmp_path / "o.xlsx", options=opts)
+    out = openpyxl.load_workbook(tmp_path / "o.xlsx")["Members"]
+    assert [c.value for c in out[1]] == ["Name", "Joined", "Joined (UTC)"]
+    assert out.cell(2, 3).value == dt.datetime(2024, 1, 5, 8)  # 10:00+02:00 is 08:00 UTC

@@ -172,10 +172,15 @@ def write_workbook(
                 dates += 1
         unresolved += d.unresolved
         unresolved_rows += [(source, int(i), pc.output_name) for i in np.flatnonzero(d.keep)]
-        label = pc.output_name + (
-            f" ({options.zone})" if d.aware and options.zone_in_header else ""
-        )
-        if label != source:
+        suffix = f" ({options.zone})" if d.aware and options.zone_in_header else ""
+        if pc.name is None and isinstance(header.value, str):
+            # not renamed by a step: the sheet's own header text, never the reader's unique
+            # name (a second "Joined" is read as "Joined (2)"); written only to add the zone
+            label, changed = header.value + suffix, bool(suffix)
+        else:
+            label = pc.output_name + suffix
+            changed = label != source
+        if changed:
             _put_text(header, label, fix)
         if d.aware and not options.zone_in_header:
             _add_comment(header, zone_note(options))

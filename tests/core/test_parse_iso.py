@@ -11,9 +11,9 @@ import datetime as dt
 
 import numpy as np
 import pytest
+from _engine_kit import read_with
 
-from datemend.core.clean import CellState
-from datemend.core.parse import iso_text, parse_column
+from datemend.core.parse import parse_column
 from datemend.core.spec import ParseSpec
 from datemend.core.table import RawColumn, kinds_of
 
@@ -21,14 +21,7 @@ ISO = ParseSpec(patterns=("iso-date", "iso-week", "iso-ordinal", "compact-ymd"))
 
 
 def read(values: list[str], spec: ParseSpec = ISO) -> list[tuple[str, str]]:
-    """(state name, ISO text or reason) per value."""
-    arr = np.array(values, dtype=object)
-    col = parse_column(RawColumn("c", arr, kinds_of(arr, text_only=True)), spec)
-    iso = iso_text(col.value, col.offset_min, col.has_time)
-    return [
-        (CellState(s).name, str(i) if s == CellState.PARSED else str(r))
-        for s, i, r in zip(col.state, iso, col.reason, strict=True)
-    ]
+    return read_with(values, spec)
 
 
 # (input, expected ISO text, or "FAILED: <words in the reason>", why)

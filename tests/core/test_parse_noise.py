@@ -10,9 +10,10 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 import pytest
+from _engine_kit import read_with
 
 from datemend.core.clean import NAIVE, CellState
-from datemend.core.parse import iso_text, parse_column, parse_series
+from datemend.core.parse import parse_column, parse_series
 from datemend.core.spec import ParseSpec
 from datemend.core.table import RawColumn, kinds_of
 
@@ -24,13 +25,7 @@ SPEC = ParseSpec(
 
 
 def read(values: list[str], spec: ParseSpec = SPEC) -> list[tuple[str, str]]:
-    arr = np.array(values, dtype=object)
-    col = parse_column(RawColumn("c", arr, kinds_of(arr, text_only=True)), spec)
-    iso = iso_text(col.value, col.offset_min, col.has_time)
-    return [
-        (CellState(s).name, str(i) if s == CellState.PARSED else str(r))
-        for s, i, r in zip(col.state, iso, col.reason, strict=True)
-    ]
+    return read_with(values, spec)
 
 
 ROWS = [

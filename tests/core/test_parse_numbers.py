@@ -9,6 +9,7 @@ import datetime as dt
 
 import numpy as np
 import pytest
+from _engine_kit import read_with
 
 from datemend.core.clean import NAIVE, CellState
 from datemend.core.parse import iso_text, parse_column
@@ -21,15 +22,7 @@ SPECS = {"1900": S1900, "1904": S1904}
 
 
 def read(values: list[object], spec: ParseSpec, kinds=None) -> list[tuple[str, str]]:
-    arr = np.empty(len(values), dtype=object)
-    arr[:] = values
-    k = kinds_of(arr) if kinds is None else np.array(kinds, dtype=np.int8)
-    col = parse_column(RawColumn("c", arr, k), spec)
-    iso = iso_text(col.value, col.offset_min, col.has_time)
-    return [
-        (CellState(s).name, str(i) if s == CellState.PARSED else str(r))
-        for s, i, r in zip(col.state, iso, col.reason, strict=True)
-    ]
+    return read_with(values, spec, kinds, text_only=False)
 
 
 ROWS = [

@@ -8,9 +8,10 @@ import calendar
 
 import numpy as np
 import pytest
+from _engine_kit import read_with
 
 from datemend.core.clean import CellState
-from datemend.core.parse import iso_text, parse_column
+from datemend.core.parse import parse_column
 from datemend.core.spec import ParseSpec
 from datemend.core.table import RawColumn, kinds_of
 
@@ -22,13 +23,7 @@ PAST = ParseSpec(patterns=NUM, day_order="dmy", century="past", pivot_year=2026)
 
 
 def read(values: list[str], spec: ParseSpec) -> list[tuple[str, str]]:
-    arr = np.array(values, dtype=object)
-    col = parse_column(RawColumn("c", arr, kinds_of(arr, text_only=True)), spec)
-    iso = iso_text(col.value, col.offset_min, col.has_time)
-    return [
-        (CellState(s).name, str(i) if s == CellState.PARSED else str(r))
-        for s, i, r in zip(col.state, iso, col.reason, strict=True)
-    ]
+    return read_with(values, spec)
 
 
 SPECS = {"dmy": DMY, "mdy": MDY, "open": OPEN, "past": PAST}

@@ -304,6 +304,8 @@ def run_replay(args: argparse.Namespace) -> int:
         if log.source.sheet in names:
             args.sheet = log.source.sheet
     raw = _read(args)
+    # Fail before the work, not after it; with --strict the user may only want the report, and
+    # export_table refuses an existing target without --overwrite in any case.
     check_output_path(out, raw.facts.path, args.overwrite or args.strict)
     progress = _progress(True)
     ctx = ApplyContext(today=_today(args), key_column=log.key_column)
@@ -318,13 +320,10 @@ def run_replay(args: argparse.Namespace) -> int:
     assert report.table is not None
     lines, unresolved = _summary_lines(report.table)
     if args.strict and (report.has_drift or unresolved):
-        print(
-            f"--strict: nothing written ({'drift found' if report.has_drift else ''}"
-            f"{', ' if report.has_drift and unresolved else ''}"
-            f"{f'{unresolved} unresolved cells' if unresolved else ''})."
-        )
+        why = ["drift found"] if report.has_drift else []
+        why += [f"{unresolved} unresolved cells"] if unresolved else []
+        print(f"--strict: nothing written ({', '.join(why)}).")
         return EXIT_STRICT
-    check_output_path(out, raw.facts.path, args.overwrite)
     result = export_table(
         report.table,
         out,

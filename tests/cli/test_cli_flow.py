@@ -147,3 +147,18 @@ def test_replay_prints_rule_counts_and_writes_ages(tmp_path, capsys):
         d = dt.date.fromisoformat(b)
         want = ref.year - d.year - ((ref.month, ref.day) < (d.month, d.day))
         assert row["Age"] == str(want), row["Member no"]
+
+
+def test_replay_never_replaces_an_existing_output_without_overwrite(tmp_path, capsys):
+    log = tmp_path / "oct.json"
+    main(
+        ["auto", str(SAMPLES / "rowing_club_2026-10.xlsx"), "-o", str(tmp_path / "o.csv")]
+        + ["--day-first", "--log-out", str(log)]
+    )
+    out = tmp_path / "nov.csv"
+    out.write_text("keep me", encoding="utf-8")
+    capsys.readouterr()
+    code = main(["replay", str(log), str(SAMPLES / "rowing_club_2026-11.xlsx"), "-o", str(out)])
+    assert code == 3
+    assert "--overwrite" in capsys.readouterr().err
+    assert out.read_text(encoding="utf-8") == "keep me"

@@ -99,15 +99,27 @@ class RawColumn:
         return len(self.values)
 
     def text(self) -> pd.Series:
-        """Each cell as text (None for empty), for pattern matching. Vectorised per kind."""
+        """Each cell as text (None for empty), for finding values. Non-text cells are turned to
+        text once per distinct value, not once per cell."""
         out = pd.Series(self.values, dtype=object)
         kinds = self.kinds
         empty = kinds == CellKind.EMPTY
         if empty.any():  # whitespace-only cells keep their string in ``values``
             out[empty] = None
-        other = (kinds != CellKind.TEXT) & (kinds != CellKind.EMPTY) & (kinds != CellKind.ERROR)
-        if other.any():
-            out[other] = [_as_text(v) for v in self.values[other]]
+        for kind in (
+            CellKind.INT,
+            CellKind.FLOAT,
+            CellKind.DATE,
+            CellKind.DATETIME,
+            CellKind.TIME,
+            CellKind.BOOL,
+        ):
+            # one kind at a time: Python holds True == 1 == 1.0, so factorizing across kinds
+            # would merge a boolean with a number
+            hit = kinds == kind
+            if hit.any():
+                codes, uniques = pd.factorize(pd.Series(self.values[hit], dtype=object))
+                out[hit] = np.array([_as_text(v) for v in uniques], dtype=object)[codes]
         return out
 
 

@@ -8,7 +8,7 @@ reports are merged into one.
 
 Dask is an optional extra (``pip install 'datemend[dask]'``); nothing here is imported by
 ``import datemend``. With ``scheduler`` an address (``tcp://host:8786``), an existing cluster is
-used through ``dask.distributed`` (install ``distributed`` too; the workers need datemend
+used through ``dask.distributed`` (the Dask extra installs it; the workers need datemend
 installed and ``out_dir`` on storage they share).
 """
 
@@ -38,6 +38,9 @@ __all__ = ["LOCAL_SCHEDULERS", "DaskReplayResult", "replay_dask"]
 
 #: Names of Dask's local schedulers accepted by ``scheduler=``; anything else is an address.
 LOCAL_SCHEDULERS = ("synchronous", "single-threaded", "sync", "threads", "threading", "processes")
+
+#: Seconds to wait for a scheduler address to answer before giving up with one sentence.
+CONNECT_TIMEOUT_S = 10
 
 _OUT_FORMATS = {"csv": ".csv", "parquet": ".parquet", "xlsx": ".xlsx"}
 _META = pd.DataFrame(
@@ -431,12 +434,20 @@ def _compute_cluster(job: Any, address: str, progress: Progress | None) -> pd.Da
     except ImportError as err:
         raise DatemendError(
             f'a scheduler address ("{address}") needs dask.distributed: '
-            "pip install 'dask[distributed]' (or use the local scheduler)."
+            "pip install 'datemend[dask]' (or use the local scheduler)."
         ) from err
     try:
-        client = Client(address, timeout="10s")
-    except OSError as err:
-        raise DatemendError(f'could not reach the Dask scheduler at "{address}".') from err
+        client = Client(address, timeout=CONNECT_TIMEOUT_S)
+    except OSError as err:  # refused, unknown host, or no answer in time
+        raise DatemendError(
+            f'could not reach the Dask scheduler at "{address}" within {CONNECT_TIMEOUT_S} s; '
+            "check the address and that the scheduler is running."
+        ) from err
+    except (ValueError, TypeError) as err:  # "bogus", "tcp://host:port-not-a-number"
+        raise DatemendError(
+            f'"{address}" is neither a local scheduler ({", ".join(LOCAL_SCHEDULERS)}) '
+            "nor a scheduler address like tcp://host:8786."
+        ) from err
     try:
         future = client.compute(job)
         while not future.done():

@@ -198,7 +198,11 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
         pid: read_pattern(pattern(pid), norm, spec, feats, explain=False) for pid in spec.patterns
     }
     dated_mask = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
-    examples = tuple((str(v), v.isoformat()) for v in pd.unique(column.values[dated_mask][:50])[:2])
+    examples = (
+        tuple((str(v), v.isoformat()) for v in pd.unique(column.values[dated_mask][:50])[:2])
+        if dated_mask.any()
+        else ()
+    )
     c = Census(
         name=column.name,
         facts=facts,

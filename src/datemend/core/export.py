@@ -38,10 +38,11 @@ from typing import TypeVar
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
 
 from .clean import NAIVE, CellState, CleanTable, ParsedColumn
 from .progress import Progress
-from .table import DatemendError
+from .table import DatemendError, object_cells
 
 __all__ = ["ExportError", "ExportOptions", "ExportResult", "export_table", "target_format"]
 
@@ -176,7 +177,7 @@ def prepare_dates(
     col: ParsedColumn,
     raw_kinds: np.ndarray,
     options: ExportOptions,
-    raw_values: np.ndarray | None = None,
+    raw_values: np.ndarray | pa.Array | None = None,
 ) -> DateOut:
     """Masks and wall-clock values of one fixed column, vectorised.
 
@@ -192,7 +193,9 @@ def prepare_dates(
         if raw_values is not None and blank.any():
             idx = np.flatnonzero(blank)
             spaces = np.fromiter(
-                (isinstance(v, str) and v != "" for v in raw_values[idx]), bool, len(idx)
+                (isinstance(v, str) and v != "" for v in object_cells(raw_values, idx)),
+                bool,
+                len(idx),
             )
             blank[idx[spaces]] = False  # whitespace-only text stays as written too
     keep = ~ok & ~blank

@@ -11,6 +11,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pyarrow as pa
+import pyarrow.compute as pac
 import pyarrow.parquet as pq
 
 from .clean import NAIVE, CleanTable
@@ -31,7 +32,7 @@ class FlatColumn:
     the raw cells for unresolved ones), or a derived column (``series``)."""
 
     name: str
-    values: np.ndarray | None = None
+    values: np.ndarray | pa.Array | None = None  # a RawColumn's objects, or its Arrow strings
     kinds: np.ndarray | None = None
     dates: DateOut | None = None
     series: pd.Series | None = None
@@ -58,16 +59,17 @@ def flat_layout(
     extra: list[FlatColumn] = []
     for rc in raw.columns:
         pc = clean.parsed.get(rc.name)
+        cells = rc.arrow if rc.arrow is not None else rc.values  # no objects for Arrow text
         if pc is None:
-            out.append(FlatColumn(rc.name, rc.values, rc.kinds))
+            out.append(FlatColumn(rc.name, cells, rc.kinds))
             continue
-        d = prepare_dates(pc, rc.kinds, options, rc.values)
+        d = prepare_dates(pc, rc.kinds, options, cells)
         name = pc.output_name
         if name != rc.name:
             name = unique_name(name, taken)
-        out.append(FlatColumn(name, rc.values, rc.kinds, dates=d))
+        out.append(FlatColumn(name, cells, rc.kinds, dates=d))
         if options.keep_raw or (force_raw and d.unresolved):
-            copy = FlatColumn(unique_name(f"{rc.name} (raw)", taken), rc.values, rc.kinds)
+            copy = FlatColumn(unique_name(f"{rc.name} (raw)", taken), cells, rc.kinds)
             (out if beside else extra).append(copy)
     out += extra
     for name, dc in clean.derived.items():
@@ -78,9 +80,11 @@ def flat_layout(
 # --------------------------------------------------------------------------- text forms
 
 
-def raw_text(values: np.ndarray, kinds: np.ndarray) -> np.ndarray:
+def raw_text(values: np.ndarray | pa.Array, kinds: np.ndarray) -> np.ndarray:
     """Each raw cell as text ("" for empty, a whitespace-only cell's own string), vectorised per
     kind; dates in ISO 8601."""
+    if isinstance(values, pa.Array):  # text and empty cells only; whitespace-only text is kept
+        return pac.fill_null(values, "").to_numpy(zero_copy_only=False)
     out = np.full(len(values), "", dtype=object)
     for kind in np.unique(kinds):
         m = kinds == kind
@@ -106,8 +110,10 @@ def raw_text(values: np.ndarray, kinds: np.ndarray) -> np.ndarray:
     return out
 
 
-def blank_text(values: np.ndarray) -> np.ndarray:
+def blank_text(values: np.ndarray | pa.Array) -> np.ndarray:
     """Which of these EMPTY-kind cells hold a string to write back (whitespace-only text)."""
+    if isinstance(values, pa.Array):
+        return np.asarray(pac.fill_null(pac.not_equal(values, ""), False), dtype=bool)
     return np.fromiter((isinstance(v, str) and v != "" for v in values), bool, len(values))
 
 
@@ -358,6 +364,8 @@ def _raw_arrow(col: FlatColumn, notes: list[str]) -> pa.Array:
     """A raw column in its own type when every cell has one kind (ints with floats: float64),
     else as text, with a note."""
     assert col.values is not None and col.kinds is not None
+    if isinstance(col.values, pa.Array):  # text cells, nulls for empty, whitespace kept
+        return col.values.cast(pa.string()) if col.values.type != pa.string() else col.values
     kinds = set(np.unique(col.kinds).tolist()) - {CellKind.EMPTY}
     empty = col.kinds == CellKind.EMPTY
     spaces = np.zeros(len(empty), dtype=bool)  # whitespace-only cells, kept as text

@@ -26,7 +26,7 @@ from .clean import CellState, CleanTable
 from .export import DateOut, ExportOptions, zone_note
 from .export_flat import FlatColumn, blank_text, flat_layout
 from .progress import Progress
-from .table import CellKind
+from .table import CellKind, object_cells
 
 __all__ = ["write_stream"]
 
@@ -352,9 +352,10 @@ def _column_cells(col: FlatColumn, rows: slice, refs: np.ndarray, tally: _Tally)
     if part.series is not None:
         return _derived_cells(part.series, refs, tally)
     assert part.values is not None and part.kinds is not None
+    values = object_cells(part.values)  # this run of rows only, for an Arrow-held column
     if part.dates is None:
-        return raw_cells(part.values, part.kinds, refs, tally)
-    return date_cells(part.dates, part.values, part.kinds, refs, tally)
+        return raw_cells(values, part.kinds, refs, tally)
+    return date_cells(part.dates, values, part.kinds, refs, tally)
 
 
 def _unresolved(
@@ -376,7 +377,7 @@ def _unresolved(
     idx = np.concatenate([p for p, _ in picks]) if picks else np.array([], dtype=np.int64)
     n = len(idx)
     empty = np.array([], dtype=object)
-    values = np.concatenate([c.values[p] for p, c in picks]) if picks else empty
+    values = np.concatenate([object_cells(c.values, p) for p, c in picks]) if picks else empty
     kinds = np.concatenate([c.kinds[p] for p, c in picks]) if picks else np.array([], np.int8)
     column = (
         np.concatenate([np.full(len(p), c.name, dtype=object) for p, c in picks])

@@ -465,33 +465,59 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         return hit
     kinds = column.kinds
     textual = TEXT_LIKE[kinds]
-    if bool(textual.all()) and not NUMBER_KIND[kinds].any():
-        groups = [np.arange(len(column))]
+    rows = np.flatnonzero(textual)
+    if not len(rows):
+        out = (rows.astype(np.int64), np.zeros(0, np.int64), np.zeros(0, dtype=object))
+    elif column.arrow is not None:  # text cells only, held as Arrow strings
+        arr = column.arrow if len(rows) == len(column) else column.arrow.take(rows)
+        out = (rows, *_encode(arr))
     else:
         numeric = NUMBER_KIND[kinds]
-        groups = [np.flatnonzero(textual & ~numeric), np.flatnonzero(numeric)]
-    rows_l, codes_l, uniq_l, offset = [], [], [], 0
-    for g, rows in enumerate(groups):
-        if not len(rows):
-            continue
-        vals = column.values if len(rows) == len(column) else column.values[rows]
-        codes, uniques = pd.factorize(vals)
-        if g == 1 or pd.api.types.infer_dtype(uniques, skipna=False) != "string":
-            uniques = np.array([_num_text(u) for u in uniques], dtype=object)
-        rows_l.append(rows)
-        codes_l.append(codes + offset)
-        uniq_l.append(np.asarray(uniques, dtype=object))
-        offset += len(uniques)
-    if not rows_l:
-        out = (np.zeros(0, np.int64), np.zeros(0, np.int64), np.zeros(0, dtype=object))
-    elif len(rows_l) == 1:
-        out = (rows_l[0], codes_l[0], uniq_l[0])
-    else:
-        rows = np.concatenate(rows_l)
-        order = np.argsort(rows, kind="stable")
-        out = (rows[order], np.concatenate(codes_l)[order], np.concatenate(uniq_l))
+        code_at = np.full(len(column), -1, dtype=np.int64)
+        uniques = np.zeros(0, dtype=object)
+        text_cells = textual & ~numeric
+        if text_cells.any():
+            code_at, uniques = _encode_objects(column.values, ~text_cells)
+        if numeric.any():
+            at = np.flatnonzero(numeric)
+            codes, nums = pd.factorize(column.values[at])
+            code_at[at] = codes + len(uniques)
+            texts = np.array([_num_text(u) for u in nums], dtype=object)
+            uniques = np.concatenate([uniques, texts])
+        out = (rows, code_at[rows], uniques)
     _DISTINCT[column] = out
     return out
+
+
+def _encode(arr: pa.Array) -> tuple[np.ndarray, np.ndarray]:
+    """(code of each value, distinct values as Python strings) of an Arrow string array;
+    distinct values in order of first appearance, nulls coded -1."""
+    enc = pc.dictionary_encode(arr)
+    codes = enc.indices
+    if codes.null_count:
+        codes = pc.fill_null(codes, -1)
+    codes = codes.to_numpy(zero_copy_only=False).astype(np.int64, copy=False)
+    return codes, enc.dictionary.to_numpy(zero_copy_only=False).astype(object, copy=False)
+
+
+def _encode_objects(values: np.ndarray, skip: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """As ``_encode`` for the cells of an object array not in ``skip`` (text cells): Arrow's
+    hashing is about twice as fast as pandas' on Python strings. Anything but strings there (an
+    error cell from a reader that gives no text) takes pandas' path; non-strings become text.
+    Skipped cells are coded -1."""
+    try:
+        arr = pa.array(values, pa.string(), mask=skip)
+    except (pa.ArrowException, TypeError, ValueError, UnicodeError):
+        arr = None
+    if arr is not None and arr.null_count == int(skip.sum()):
+        return _encode(arr)
+    at = np.flatnonzero(~skip)
+    codes, uniques = pd.factorize(values[at])
+    if pd.api.types.infer_dtype(uniques, skipna=False) != "string":
+        uniques = np.array([_num_text(u) for u in uniques], dtype=object)
+    code_at = np.full(len(values), -1, dtype=np.int64)
+    code_at[at] = codes
+    return code_at, np.asarray(uniques, dtype=object)
 
 
 _RESULTS: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()

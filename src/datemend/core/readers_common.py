@@ -11,6 +11,7 @@ from collections.abc import Sequence
 from dataclasses import replace
 
 import numpy as np
+import pyarrow as pa
 
 from .table import CellKind, RawColumn, RawTable, ReadError, SourceFacts, _as_text
 
@@ -25,6 +26,11 @@ def column_letter(index: int) -> str:
         n, rem = divmod(n - 1, 26)
         out = chr(65 + rem) + out
     return out
+
+
+def _cell(values: np.ndarray | pa.Array, i: int) -> object:
+    """One cell of a reader's column, held as objects or as an Arrow string array."""
+    return values[i].as_py() if isinstance(values, pa.Array) else values[i]
 
 
 def _header_text(value: object, kind: int) -> str:
@@ -92,7 +98,7 @@ def build_table(
     has_data = [bool((k[data] != empty).any()) for k in kinds]
     for j in range(n_cols):
         kind = int(kinds[j][h])
-        name = "" if kind == empty else _header_text(values[j][h], kind)
+        name = "" if kind == empty else _header_text(_cell(values[j], h), kind)
         if not name and not has_data[j]:
             dropped += 1
             continue

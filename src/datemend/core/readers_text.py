@@ -144,10 +144,11 @@ def detect_text_format(path: str, data: bytes | None = None) -> TextFormat:
 
 
 def _fast_parse(
-    text: str, raw_utf8: bytes | None, delim: str, width: int
-) -> tuple[list[np.ndarray], list[np.ndarray], np.ndarray]:
-    """pyarrow parse, all columns as strings. Raises pa.ArrowInvalid on ragged rows."""
-    data = raw_utf8 if raw_utf8 is not None else text.encode("utf-8")
+    data: bytes, delim: str, width: int, *, multiline: bool
+) -> tuple[list[pa.Array], list[np.ndarray], np.ndarray]:
+    """pyarrow parse of UTF-8 ``data``, all columns as strings, kept as Arrow string arrays
+    (empty fields as nulls). ``multiline`` says the text may hold line breaks inside quoted
+    fields or lone CRs, so line numbers must be counted. Raises pa.ArrowInvalid on ragged rows."""
     names = [f"f{i}" for i in range(width)]
     table = pacsv.read_csv(
         io.BytesIO(data),
@@ -168,27 +169,29 @@ def _fast_parse(
             null_values=[],
         ),
     )
-    n_rows, n_cols = table.num_rows, table.num_columns
-    # All columns as one chunked array, so the work is a few vectorised calls, not per column.
-    chunks = [c for col in table.columns for c in col.chunks]
-    every = pa.chunked_array(chunks, type=pa.string())
-    blank = pc.equal(pc.utf8_trim_whitespace(every), "").to_numpy(zero_copy_only=False)
-    flat = every.to_numpy(zero_copy_only=False).astype(object, copy=False)
-    # An empty field has no value; a whitespace-only one keeps its text (kind EMPTY, so the
-    # engine treats it as blank) so an export can write it back as it was.
-    flat[pc.equal(pc.utf8_length(every), 0).to_numpy(zero_copy_only=False)] = None
-    grid = flat.reshape(n_cols, n_rows)
-    kind_grid = (
-        np.where(blank, CellKind.EMPTY, CellKind.TEXT).astype(np.int8).reshape(n_cols, n_rows)
-    )
+    n_rows = table.num_rows
+    values: list[pa.Array] = []
+    kinds: list[np.ndarray] = []
+    breaks = np.zeros(n_rows, dtype=np.int64)
+    null = pa.scalar(None, pa.string())
+    for j in range(table.num_columns):
+        col = table.column(j)
+        col = col.combine_chunks() if col.num_chunks != 1 else col.chunk(0)
+        # An empty field has no value (a null); a whitespace-only one keeps its text (kind
+        # EMPTY, so the engine treats it as blank) so an export can write it back as it was.
+        empty = pc.equal(pc.utf8_length(col), 0)
+        blank = pc.or_(empty, pc.utf8_is_space(col)).to_numpy(zero_copy_only=False)
+        values.append(pc.if_else(empty, null, col) if pc.any(empty).as_py() else col)
+        kinds.append(np.where(blank, CellKind.EMPTY, CellKind.TEXT).astype(np.int8))
+        if multiline and n_rows:
+            lf = pc.count_substring(col, "\n").to_numpy(zero_copy_only=False)
+            cr = pc.count_substring(col, "\r").to_numpy(zero_copy_only=False)
+            crlf = pc.count_substring(col, "\r\n").to_numpy(zero_copy_only=False)
+            breaks += lf + cr - crlf
+    del table
     lines = np.arange(1, n_rows + 1, dtype=np.int64)
-    if n_rows and ("\r" in text or ("\n" in text and '"' in text)):
-        counts = [pc.count_substring(every, s).to_numpy(zero_copy_only=False) for s in "\n\r"]
-        crlf = pc.count_substring(every, "\r\n").to_numpy(zero_copy_only=False)
-        breaks = (counts[0] + counts[1] - crlf).reshape(n_cols, n_rows).sum(axis=0)
-        if breaks.any():
-            lines[1:] += np.cumsum(breaks)[:-1]
-    values, kinds = list(grid), list(kind_grid)
+    if breaks.any():
+        lines[1:] += np.cumsum(breaks)[:-1]
     return values, kinds, lines
 
 
@@ -251,9 +254,18 @@ def read_text_table(
         widths = []
     width = max(widths, default=1) or 1
     raw = data[len(codecs.BOM_UTF8) :] if enc == "utf-8-sig" else (data if enc == "utf-8" else None)
+    multiline = "\r" in text or ("\n" in text and '"' in text)
     try:
-        values, kinds, lines = _fast_parse(text, raw, delim, width)
+        if raw is None:
+            values, kinds, lines = _fast_parse(text.encode("utf-8"), delim, width,
+                                               multiline=multiline)  # fmt: skip
+        else:
+            # the decoded text is only needed again if the fast parse fails; the file's own
+            # bytes are parsed, so a large file is not held twice over
+            del text
+            values, kinds, lines = _fast_parse(raw, delim, width, multiline=multiline)
     except (pa.ArrowInvalid, pa.ArrowException, ValueError):
+        text = decode_text(data, name)[0]
         values, kinds, lines = _slow_parse(text, delim)
     if progress is not None:
         progress.report(3, 4, f"Read {len(lines):,} lines of {name}")

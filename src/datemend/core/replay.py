@@ -295,7 +295,7 @@ def _groups(
         suggestion, spec = None, None
         if not all(e in token_set for e in examples):
             sample = pos[:SCAN_SAMPLE]
-            col = RawColumn(rc.name, rc.values[sample], rc.kinds[sample])
+            col = rc.take(sample)
             best = scan_column(col, raw.facts).best
             if best is not None and best.parsed:
                 suggestion, spec = best.label, best.spec

@@ -13,6 +13,7 @@ from collections.abc import Sequence
 
 import numpy as np
 import pandas as pd
+import pyarrow.compute as pc
 
 from .table import CellKind, RawColumn, RawTable
 
@@ -36,6 +37,9 @@ _index_cache: weakref.WeakKeyDictionary[RawColumn, pd.Index] = weakref.WeakKeyDi
 
 def column_text(column: RawColumn) -> pd.Series:
     """Every cell as trimmed text, "" for empty (Arrow strings: trimmed without a Python loop)."""
+    if column.arrow is not None:  # text cells only: no object per cell is made
+        trimmed = pc.fill_null(pc.utf8_trim_whitespace(column.arrow), "")
+        return pd.Series(pd.arrays.ArrowStringArray(trimmed), dtype="string[pyarrow]")
     text = column.text().astype("string[pyarrow]").str.strip()
     return text.fillna("").reset_index(drop=True)
 
@@ -52,7 +56,7 @@ def key_text(column: RawColumn) -> pd.Index:
 def cells_text(column: RawColumn, rows: np.ndarray | Sequence[int]) -> pd.Series:
     """Some cells of a column as trimmed text ("" for empty), without converting the rest."""
     rows = np.asarray(rows, dtype=np.int64)
-    part = RawColumn(column.name, column.values[rows], column.kinds[rows])
+    part = column.take(rows)
     return part.text().fillna("").astype(object).str.strip().reset_index(drop=True)
 
 

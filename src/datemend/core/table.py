@@ -15,6 +15,7 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
 
 __all__ = [
     "CellKind",
@@ -24,6 +25,7 @@ __all__ = [
     "ReadError",
     "SourceFacts",
     "kinds_of",
+    "object_cells",
 ]
 
 
@@ -81,29 +83,116 @@ class SourceFacts:
         return f'{name}, sheet "{self.sheet}"' if self.sheet else name
 
 
-@dataclass(frozen=True, eq=False)
+#: Cell kinds an Arrow-held column may have: text, and empty (a null, or whitespace-only text).
+_ARROW_KINDS = np.zeros(len(CellKind), dtype=bool)
+_ARROW_KINDS[[CellKind.EMPTY, CellKind.TEXT]] = True
+
+
 class RawColumn:
-    """One column: original values (object array) and their kinds (int8 array of CellKind).
+    """One column: original values and their kinds (int8 array of CellKind).
 
     ``values`` holds Python objects as read: ``str`` for text and error cells, ``int``, ``float``,
     ``bool``, ``datetime.date``, ``datetime.datetime``, ``datetime.time``, and ``None`` for empty.
     A whitespace-only cell ("   ", a tab, a no-break space) is kind EMPTY but keeps its string,
     so exports can write it back exactly. CSV cells are always text (or empty): nothing is coerced.
+
+    A column of text cells only (every CSV column, a text-only Parquet or workbook column) may be
+    held as an Arrow string array instead (``values`` given as a ``pyarrow`` array, empty cells as
+    nulls): about a fifth of the memory of one Python object per cell. Such a column's
+    ``arrow`` is that array; ``values`` then builds the object array on first use and keeps it,
+    so hot paths (parsing, replay, export) use ``arrow``, ``take`` and ``value`` instead.
+    A RawColumn never changes once made.
     """
 
+    __slots__ = ("__weakref__", "_arrow", "_values", "kinds", "name")
+
     name: str
-    values: np.ndarray
     kinds: np.ndarray
 
+    def __init__(
+        self, name: str, values: np.ndarray | pa.Array | pa.ChunkedArray, kinds: np.ndarray
+    ) -> None:
+        arrow: pa.Array | None = None
+        if isinstance(values, pa.ChunkedArray):
+            values = values.combine_chunks() if values.num_chunks != 1 else values.chunk(0)
+        if isinstance(values, pa.Array):
+            if not (pa.types.is_string(values.type) or pa.types.is_large_string(values.type)):
+                raise TypeError(f"an Arrow-held column holds strings, not {values.type}")
+            if len(kinds) and not bool(_ARROW_KINDS[kinds].all()):
+                raise ValueError("an Arrow-held column may only hold text and empty cells")
+            arrow, values = values, None
+        elif len(values) != len(kinds):
+            raise ValueError(f"column {name!r}: {len(values)} values but {len(kinds)} kinds")
+        if arrow is not None and len(arrow) != len(kinds):
+            raise ValueError(f"column {name!r}: {len(arrow)} values but {len(kinds)} kinds")
+        object.__setattr__(self, "name", name)
+        object.__setattr__(self, "kinds", kinds)
+        object.__setattr__(self, "_arrow", arrow)
+        object.__setattr__(self, "_values", values)
+
+    def __setattr__(self, key: str, value: object) -> None:
+        raise AttributeError(f"a RawColumn never changes (tried to set {key!r})")
+
+    def __repr__(self) -> str:
+        held = "arrow" if self._arrow is not None else "objects"
+        return f"RawColumn({self.name!r}, {len(self):,} cells, {held})"
+
+    def __reduce__(self) -> tuple[object, ...]:  # pickling (Dask, worker processes)
+        return (RawColumn, (self.name, self._arrow if self._arrow is not None else self._values,
+                            self.kinds))  # fmt: skip
+
     def __len__(self) -> int:
-        return len(self.values)
+        return len(self.kinds)
+
+    @property
+    def values(self) -> np.ndarray:
+        """The cells as an object array (built once, then kept, for an Arrow-held column)."""
+        if self._values is None:
+            assert self._arrow is not None
+            object.__setattr__(self, "_values", self._arrow.to_numpy(zero_copy_only=False))
+        return self._values
+
+    @property
+    def arrow(self) -> pa.Array | None:
+        """The Arrow string array holding the cells (nulls for empty), or None if held as
+        Python objects."""
+        return self._arrow
+
+    @property
+    def materialised(self) -> bool:
+        """True once an object array of the cells exists (always, unless Arrow-held)."""
+        return self._values is not None
+
+    def value(self, i: int) -> object:
+        """The value of cell ``i`` (0-based), without building the object array."""
+        if self._values is not None:
+            return self._values[i]
+        assert self._arrow is not None
+        return self._arrow[int(i)].as_py()
+
+    def take(self, rows: np.ndarray) -> RawColumn:
+        """A column of the given positions (an integer array, or a boolean mask)."""
+        rows = np.asarray(rows)
+        if rows.dtype == bool:
+            rows = np.flatnonzero(rows)
+        if self._values is None:
+            assert self._arrow is not None
+            return RawColumn(self.name, self._arrow.take(pa.array(rows, pa.int64())),
+                             self.kinds[rows])  # fmt: skip
+        return RawColumn(self.name, self._values[rows], self.kinds[rows])
 
     def text(self) -> pd.Series:
         """Each cell as text (None for empty), for finding values. Non-text cells are turned to
         text once per distinct value, not once per cell."""
-        out = pd.Series(self.values, dtype=object)
         kinds = self.kinds
         empty = kinds == CellKind.EMPTY
+        if self._values is None:
+            assert self._arrow is not None
+            out = pd.Series(self._arrow.to_numpy(zero_copy_only=False), dtype=object)
+            if empty.any():
+                out[empty] = None
+            return out
+        out = pd.Series(self.values, dtype=object)
         if empty.any():  # whitespace-only cells keep their string in ``values``
             out[empty] = None
         for kind in (
@@ -121,6 +210,23 @@ class RawColumn:
                 codes, uniques = pd.factorize(pd.Series(self.values[hit], dtype=object))
                 out[hit] = np.array([_as_text(v) for v in uniques], dtype=object)[codes]
         return out
+
+
+def object_cells(
+    values: np.ndarray | pa.Array, rows: np.ndarray | slice | None = None
+) -> np.ndarray:
+    """Cells (all, or the given positions) as an object array, whether ``values`` is a
+    RawColumn's object array or its Arrow string array; only those cells become objects."""
+    if isinstance(values, pa.Array):
+        if rows is not None:
+            if isinstance(rows, slice):
+                values = values[rows]
+            else:
+                rows = np.asarray(rows)
+                rows = np.flatnonzero(rows) if rows.dtype == bool else rows
+                values = values.take(pa.array(rows, pa.int64()))
+        return values.to_numpy(zero_copy_only=False)
+    return values if rows is None else values[rows]
 
 
 def _as_text(v: object) -> str:
@@ -184,7 +290,7 @@ class RawTable:
 
     def take(self, rows: np.ndarray) -> RawTable:
         """A table with only the given row positions (for partitions and previews)."""
-        cols = tuple(RawColumn(c.name, c.values[rows], c.kinds[rows]) for c in self.columns)
+        cols = tuple(c.take(rows) for c in self.columns)
         assert self.source_rows is not None
         return RawTable(cols, self.facts, self.source_rows[rows])
 

@@ -57,8 +57,14 @@ def _scan_once(monkeypatch):
     monkeypatch.setattr(infer, "scan_column", _cached_scan)
 
 
+def _cached_scan(column, facts=None, *, prefer_day_order=None, reference_year=None, progress=None):
+    if progress is not None:
+        progress.check()  # a Stop still stops
+    return _cached(column, facts, prefer_day_order, reference_year)
+
+
 @functools.lru_cache(maxsize=256)
-def _cached_scan(column, facts=None, *, prefer_day_order=None, reference_year=None):
+def _cached(column, facts, prefer_day_order, reference_year):
     return _REAL_SCAN(
         column, facts, prefer_day_order=prefer_day_order, reference_year=reference_year
     )

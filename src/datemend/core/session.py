@@ -164,8 +164,9 @@ class Session:
             return ApplyContext(key_column=self._log.key_column)
         return ApplyContext(today=self._today, key_column=self._log.key_column)
 
-    def report(self, column: str) -> ColumnReport:
-        """The scan of one column, computed on first use and cached."""
+    def report(self, column: str, progress: Progress | None = None) -> ColumnReport:
+        """The scan of one column, computed on first use and cached (``progress`` lets a long
+        scan be stopped part-way)."""
         rep = self._reports.get(column)
         if rep is None:
             from .infer import scan_column
@@ -175,6 +176,7 @@ class Session:
                 self._raw.facts,
                 prefer_day_order=self.prefer_day_order,
                 reference_year=self.reference_year,
+                progress=progress,
             )
             self._reports[column] = rep
         return rep
@@ -187,7 +189,7 @@ class Session:
             if progress is not None:
                 progress.report(i, len(names), f"scanning {name}")
             if name not in self._reports:
-                self.report(name)
+                self.report(name, progress)
                 new.append(name)
         if new:
             self._emit(SessionEvent("reports", tuple(new)))

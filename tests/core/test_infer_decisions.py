@@ -4,13 +4,17 @@ sentences are counted by hand from the columns below."""
 
 from __future__ import annotations
 
+import calendar
+import datetime as dt
+
 import numpy as np
+import pandas as pd
 import pytest
 
 from datemend.core.clean import CellState
 from datemend.core.infer import scan_column
-from datemend.core.parse import parse_column
-from datemend.core.table import RawColumn, SourceFacts, kinds_of
+from datemend.core.parse import iso_text, parse_column
+from datemend.core.table import RawColumn, RawTable, SourceFacts, kinds_of
 
 
 def col(values: list[object], name: str = "c", text: bool = True) -> RawColumn:
@@ -180,37 +184,283 @@ def test_two_digit_year_place_undecided_stays_ambiguous() -> None:
     assert not any("could stand first" in w for w in quiet)
 
 
-# Where a two-digit year stands, decided column-wide by a value only one place can read.
-# Expected dates by hand, checked with dateutil.parser.parse(v, yearfirst=...) where noted.
+# Where a two-digit year stands, decided column-wide by a two-digit year only one place can
+# read; a four-digit year shows only its own place (13/04/2021 says nothing of 24/03/15). Rows:
+# (column, cell, state, readings, why). Readings worked out by hand: the date when PARSED, every
+# date the reason must name when AMBIGUOUS; each is cross-checked with datetime.strptime in
+# STRPTIME_READINGS below, and each deciding value's impossible reading in ONE_PLACE_ONLY.
+BUG = ("wed apr 1 05:19:32 1970", "5/7/1950 7:04 AM", "25/04/18 8:57:57 pm", "2145830400")
+FIRST = ("99/12/31", "5/7/1950 7:04 AM", "25/04/18 8:57:57 pm")
+LAST = ("15/03/85", "5/7/1950 7:04 AM", "25/04/18 8:57:57 pm")
 YEAR_PLACE_ROWS = [
-    (("98/12/31", "24/03/15"), 1, "2024-03-15", "98 is no day or month: year first (yearfirst)"),
-    (("31.12.98", "24.03.15"), 1, "2015-03-24", "98 last shows the year last, 24 is the day"),
-    (("13/04/2021", "24/03/15"), 1, "2015-03-24", "a four-digit year last decides the column"),
-    (("99-01-31", "05-06-07"), 1, "2005-06-07", "99 first: YY-MM-DD (dateutil yearfirst)"),
-    (("24/03/15", "23/12/01"), 0, "AMBIGUOUS", "nothing shows the place: both readings kept"),
-    (("3/4/24", "5/6/23"), 0, "AMBIGUOUS", "one-digit first field: day/month undecided"),
-    (("1993/06/30", "16.4.1900", "25/6/16"), 2, "AMBIGUOUS", "year first and last both seen"),
-    (("2024/03/15", "15/03/24"), 1, "2015-03-24", "the column writes YYYY/MM/DD: year first"),
+    (("98/12/31", "24/03/15"), 1, "PARSED", ("2024-03-15",), "98 is no day or month: year first"),
+    (("31.12.98", "24.03.15"), 1, "PARSED", ("2015-03-24",), "98 last: year last, 24 is the day"),
+    (
+        ("13/04/2021", "24/03/15"),
+        1,
+        "AMBIGUOUS",
+        ("2015-03-24", "2024-03-15"),
+        "a four-digit year last shows only its own place: the two-digit one stays open",
+    ),
+    (("99-01-31", "05-06-07"), 1, "PARSED", ("2005-06-07",), "99 first: YY-MM-DD"),
+    (
+        ("24/03/15", "23/12/01"),
+        0,
+        "AMBIGUOUS",
+        ("2015-03-24", "2024-03-15"),
+        "nothing shows the place: both readings kept",
+    ),
+    (
+        ("3/4/24", "5/6/23"),
+        0,
+        "AMBIGUOUS",
+        ("2024-04-03", "2024-03-04"),
+        "one-digit first field: day/month undecided",
+    ),
+    (
+        ("1993/06/30", "16.4.1900", "25/6/16"),
+        2,
+        "AMBIGUOUS",
+        ("2016-06-25", "2025-06-16"),
+        "four-digit years first and last decide nothing for a two-digit one",
+    ),
+    (
+        ("2024/03/15", "15/03/24"),
+        1,
+        "AMBIGUOUS",
+        ("2024-03-15", "2015-03-24"),
+        "YYYY/MM/DD elsewhere shows only that value's own place",
+    ),
+    # The reported column (2145830400 is the epoch; here as text, as a CSV gives it).
+    (
+        BUG,
+        2,
+        "AMBIGUOUS",
+        ("2018-04-25T20:57:57", "2025-04-18T20:57:57"),
+        "written YY/MM/DD; nothing in the column shows the year's place",
+    ),
+    (
+        BUG,
+        1,
+        "AMBIGUOUS",
+        ("1950-07-05T07:04:00", "1950-05-07T07:04:00"),
+        "25/04/18 shows day first only if its year is last: no evidence of the day order",
+    ),
+    (BUG, 0, "PARSED", ("1970-04-01T05:19:32",), "asctime, year last in four digits"),
+    (
+        FIRST,
+        2,
+        "PARSED",
+        ("2025-04-18T20:57:57",),
+        "99/12/31 can only be year first: the column writes YY/MM/DD",
+    ),
+    (
+        FIRST,
+        1,
+        "AMBIGUOUS",
+        ("1950-07-05T07:04:00", "1950-05-07T07:04:00"),
+        "with 25/04/18 year first, no value shows the day order",
+    ),
+    (
+        LAST,
+        2,
+        "PARSED",
+        ("2018-04-25T20:57:57",),
+        "15/03/85 can only be year last: D/M/YY, and 25 is then a day",
+    ),
+    (
+        LAST,
+        1,
+        "PARSED",
+        ("1950-07-05T07:04:00",),
+        "15/03/85 and 25/04/18 (year last) show the day first",
+    ),
+    (
+        ("25/04/31", "25/04/18"),
+        1,
+        "PARSED",
+        ("2018-04-25",),
+        "25/04/31 can only be year last (no 31 April): D/M/YY",
+    ),
+    (
+        ("25/04/31", "25/04/18"),
+        0,
+        "AMBIGUOUS",
+        ("1931-04-25", "2031-04-25"),
+        "year last, but 31 is 2031 by POSIX and 1931 as a past event",
+    ),
+    (
+        ("15/03/85", "25/04/18", "05/03/12"),
+        2,
+        "PARSED",
+        ("2012-03-05",),
+        "only year-last values: 05/03/12 is 5 March 2012, not 2005-03-12",
+    ),
+    (
+        ("2-17-84", "25-08-23", "12/25/2023"),
+        1,
+        "AMBIGUOUS",
+        ("2023-08-25", "2025-08-23"),
+        "year last goes against the month-first order; year first against 2-17-84",
+    ),
+    (
+        ("2-17-84", "25-08-23", "12/25/2023"),
+        0,
+        "PARSED",
+        ("1984-02-17",),
+        "17 can be no month: M-D-YY",
+    ),
+    (
+        ("12/25/2023", "3/4/2020", "25/04/18"),
+        2,
+        "AMBIGUOUS",
+        ("2018-04-25", "2025-04-18"),
+        "D/M/YY against the month-first order, or YY/MM/DD: the day order is no year place",
+    ),
+    (
+        ("12/25/2023", "3/4/2020", "25/04/18"),
+        1,
+        "PARSED",
+        ("2020-03-04",),
+        "12/25/2023 shows the month first",
+    ),
+]
+
+# A year's place shown with one separator says nothing of values written with another.
+YEAR_PLACE_ROWS += [
+    (
+        ("31/12/70 11:59:59 pm", "25-01-19 02:52:07", "25/12/2023"),
+        1,
+        "AMBIGUOUS",
+        ("2019-01-25T02:52:07", "2025-01-19T02:52:07"),
+        "31/12/70 shows the year last for D/M/YY only, not for 25-01-19",
+    ),
+    (
+        ("31-12-70", "25-01-19", "25/12/2023"),
+        1,
+        "PARSED",
+        ("2019-01-25",),
+        "31-12-70 can only be year last (no day 70): D-M-YY with the same separator",
+    ),
+]
+
+# Every reading above by Python's datetime.strptime (%y: 69–99 → 1900s, 00–68 → 2000s, the
+# POSIX rule): (text, format, ISO). 1931-04-25 is the past-events reading of 31 (2031 − 100).
+STRPTIME_READINGS = [
+    ("98/12/31", "%y/%m/%d", "1998-12-31"),
+    ("24/03/15", "%y/%m/%d", "2024-03-15"),
+    ("24/03/15", "%d/%m/%y", "2015-03-24"),
+    ("24.03.15", "%d.%m.%y", "2015-03-24"),
+    ("05-06-07", "%y-%m-%d", "2005-06-07"),
+    ("3/4/24", "%d/%m/%y", "2024-04-03"),
+    ("3/4/24", "%m/%d/%y", "2024-03-04"),
+    ("25/6/16", "%d/%m/%y", "2016-06-25"),
+    ("25/6/16", "%y/%m/%d", "2025-06-16"),
+    ("15/03/24", "%d/%m/%y", "2024-03-15"),
+    ("15/03/24", "%y/%m/%d", "2015-03-24"),
+    ("25/04/18 8:57:57 pm", "%d/%m/%y %I:%M:%S %p", "2018-04-25T20:57:57"),
+    ("25/04/18 8:57:57 pm", "%y/%m/%d %I:%M:%S %p", "2025-04-18T20:57:57"),
+    ("5/7/1950 7:04 AM", "%d/%m/%Y %I:%M %p", "1950-07-05T07:04:00"),
+    ("5/7/1950 7:04 AM", "%m/%d/%Y %I:%M %p", "1950-05-07T07:04:00"),
+    ("wed apr 1 05:19:32 1970", "%a %b %d %H:%M:%S %Y", "1970-04-01T05:19:32"),
+    ("25/04/18", "%d/%m/%y", "2018-04-25"),
+    ("25/04/18", "%y/%m/%d", "2025-04-18"),
+    ("25/04/31", "%d/%m/%y", "2031-04-25"),
+    ("05/03/12", "%d/%m/%y", "2012-03-05"),
+    ("2-17-84", "%m-%d-%y", "1984-02-17"),
+    ("25-08-23", "%d-%m-%y", "2023-08-25"),
+    ("25-08-23", "%y-%m-%d", "2025-08-23"),
+    ("3/4/2020", "%m/%d/%Y", "2020-03-04"),
+    ("25-01-19 02:52:07", "%d-%m-%y %H:%M:%S", "2019-01-25T02:52:07"),
+    ("25-01-19 02:52:07", "%y-%m-%d %H:%M:%S", "2025-01-19T02:52:07"),
+    ("25-01-19", "%d-%m-%y", "2019-01-25"),
+]
+
+# The deciding values: the reading strptime refuses (so only the other place is left).
+ONE_PLACE_ONLY = [
+    ("98/12/31", "%d/%m/%y", "no day 98"),
+    ("31.12.98", "%y.%m.%d", "no day 98"),
+    ("99-01-31", "%d-%m-%y", "no day 99"),
+    ("99/12/31", "%d/%m/%y", "no day 99"),
+    ("15/03/85", "%y/%m/%d", "no day 85"),
+    ("25/04/31", "%y/%m/%d", "April has 30 days (calendar.monthrange(2025, 4))"),
+    ("2-17-84", "%y-%m-%d", "no month 17"),
+    ("31-12-70", "%y-%m-%d", "no day 70"),
 ]
 
 
 def test_year_place_rows_do_not_repeat() -> None:
-    keys = [r[0] for r in YEAR_PLACE_ROWS]
+    keys = [(r[0], r[1]) for r in YEAR_PLACE_ROWS]
     assert len(keys) == len(set(keys))
+    assert len({r[:2] for r in STRPTIME_READINGS}) == len(STRPTIME_READINGS)
+    assert len({r[0] for r in ONE_PLACE_ONLY}) == len(ONE_PLACE_ONLY)
+
+
+@pytest.mark.parametrize(("text", "fmt", "iso"), STRPTIME_READINGS)
+def test_year_place_readings_by_strptime(text: str, fmt: str, iso: str) -> None:
+    got = dt.datetime.strptime(text, fmt)
+    assert (got.isoformat() if "T" in iso else got.date().isoformat()) == iso
+
+
+@pytest.mark.parametrize(("text", "fmt", "why"), ONE_PLACE_ONLY)
+def test_deciding_values_have_one_place_only(text: str, fmt: str, why: str) -> None:
+    assert calendar.monthrange(2025, 4)[1] == 30
+    with pytest.raises(ValueError):
+        dt.datetime.strptime(text, fmt)
+
+
+def _named(iso: str) -> str:
+    """ "1950-07-05T07:04:00" as the engine names a day in a reason: "5 July 1950"."""
+    d = dt.date.fromisoformat(iso[:10])
+    return f"{d.day} {calendar.month_name[d.month]} {d.year}"
 
 
 @pytest.mark.parametrize(
-    ("values", "i", "want", "why"), YEAR_PLACE_ROWS, ids=[r[3] for r in YEAR_PLACE_ROWS]
+    ("values", "i", "state", "readings", "why"),
+    YEAR_PLACE_ROWS,
+    ids=[f"{r[0][r[1]]}-{r[4]}" for r in YEAR_PLACE_ROWS],
 )
-def test_two_digit_year_place(values: tuple[str, ...], i: int, want: str, why: str) -> None:
+def test_two_digit_year_place(
+    values: tuple[str, ...], i: int, state: str, readings: tuple[str, ...], why: str
+) -> None:
     c = col(list(values))
     parsed = parse_column(c, scan_column(c, reference_year=2026).best.spec)
-    if want == "AMBIGUOUS":
-        assert parsed.state[i] == CellState.AMBIGUOUS, why
-        assert parsed.reason[i], why
+    got = iso_text(parsed.value, parsed.offset_min, parsed.has_time)[i]
+    assert CellState(int(parsed.state[i])).name == state, f"{why}: {got or parsed.reason[i]}"
+    if state == "PARSED":
+        assert got.removesuffix("+00:00") == readings[0], why
     else:
-        assert parsed.state[i] == CellState.PARSED, f"{why}: {parsed.reason[i]}"
-        assert parsed.value[i] == np.datetime64(want, "us"), why
+        for r in readings:
+            assert r in parsed.reason[i] or _named(r) in parsed.reason[i], (why, parsed.reason[i])
+
+
+def test_reported_column_with_an_epoch_number_cell() -> None:
+    # As found by the round trip: the epoch is a number cell. 2145830400 s is
+    # 2037-12-31T00:00:00Z (datetime.fromtimestamp(2145830400, UTC)).
+    df = pd.DataFrame({"c": pd.Series(list(BUG[:3]) + [2145830400], dtype=object)})
+    column = RawTable.from_dataframe(df).columns[0]
+    best = scan_column(column, reference_year=2026).best
+    parsed = parse_column(column, best.spec)
+    states = [CellState(int(s)).name for s in parsed.state]
+    assert states == ["PARSED", "AMBIGUOUS", "AMBIGUOUS", "PARSED"], parsed.reason
+    assert "2018-04-25T20:57:57" in parsed.reason[2] and "2025-04-18T20:57:57" in parsed.reason[2]
+    epoch = dt.datetime.fromtimestamp(2145830400, dt.UTC).replace(tzinfo=None)
+    assert parsed.value[3] == np.datetime64(epoch, "us")
+    assert any("could stand first (YY/MM/DD) or last" in w for w in best.warnings)
+    assert best.decisions["day_order"] != "evidence"
+
+
+def test_a_conflicting_year_place_says_why() -> None:
+    # 2-17-84 shows the year last (no month 17) and the month first; 25-08-23 read year last
+    # would be day first. Counts by hand: 1 value year-last only, 1 value against the order.
+    best = scan_column(col(["2-17-84", "25-08-23", "12/25/2023"]), reference_year=2026).best
+    assert any(
+        w.startswith(
+            "two-digit years stand last (D-M-YY or M-D-YY) in 1 values, but 1 values read "
+            "that way go against the column's month-first order"
+        )
+        for w in best.warnings
+    ), best.warnings
 
 
 def test_a_number_outside_plausible_years_with_another_reading_is_ambiguous() -> None:

@@ -5,6 +5,7 @@ on are checked with Python's ``calendar.isleap`` / ``calendar.monthrange`` in th
 from __future__ import annotations
 
 import calendar
+import datetime
 
 import numpy as np
 import pytest
@@ -26,7 +27,21 @@ def read(values: list[str], spec: ParseSpec) -> list[tuple[str, str]]:
     return read_with(values, spec)
 
 
-SPECS = {"dmy": DMY, "mdy": MDY, "open": OPEN, "past": PAST}
+# Year place undecided: D/M/YY (or M/D/YY) and YY/MM/DD stay rivals, in a column whose day
+# order is decided. The day order says nothing of where a two-digit year stands.
+YY = ("num-slash", "yymd-slash")
+YY_MDY = ParseSpec(patterns=YY, day_order="mdy", rivals=YY)
+YY_DMY = ParseSpec(patterns=YY, day_order="dmy", rivals=YY)
+YY_EITHER = ParseSpec(patterns=YY, day_order="mdy", rivals=YY, century="either", pivot_year=2026)
+SPECS = {
+    "dmy": DMY,
+    "mdy": MDY,
+    "open": OPEN,
+    "past": PAST,
+    "yy-mdy": YY_MDY,
+    "yy-dmy": YY_DMY,
+    "yy-either": YY_EITHER,
+}
 
 # (input, spec name, expected ISO or "STATE: words in the reason", why) — by hand
 ROWS = [
@@ -73,6 +88,27 @@ ROWS = [
     ("1/2/2024 00:00:00", "dmy", "2024-02-01", "stray midnight"),
     ("1/2/2024T00:00:00", "dmy", "2024-02-01", "stray T00:00:00 after a D/M/Y date"),
     ("00/00/0000", "dmy", "FAILED: does not exist", "a placeholder is not a date"),
+    (
+        "25/04/18",
+        "yy-mdy",
+        "AMBIGUOUS: 2018-04-25 (D/M/YY, against the column's month-first order) or 2025-04-18",
+        "no month 25: day first against the column, or year first (strptime %d/%m/%y, %y/%m/%d)",
+    ),
+    ("04/25/18", "yy-mdy", "2018-04-25", "only M/D/YY reads it: YY/MM/DD has no month 25"),
+    ("18/04/18", "yy-mdy", "2018-04-18", "18 April 2018 either way: both readings agree"),
+    ("04/25/19", "yy-dmy", "FAILED: month 25", "no year-first reading; day first: no month 25"),
+    (
+        "13/12/05",
+        "yy-dmy",
+        "AMBIGUOUS: 2005-12-13 (D/M/YY) or 2013-12-05 (YY/MM/DD)",
+        "both readings are real days (strptime %d/%m/%y, %y/%m/%d)",
+    ),
+    (
+        "25/04/30",
+        "yy-either",
+        "AMBIGUOUS: 2025-04-30 (YY/MM/DD), or 25 April 1930 or 25 April 2030",
+        "day first against the column, and then 30 is 1930 or 2030 (century undecided)",
+    ),
 ]
 
 
@@ -120,3 +156,36 @@ def test_day_after_month_end_always_fails() -> None:
             texts.append(f"{calendar.monthrange(year, m)[1] + 1}/{m}/{year}")
     got = read(texts, DMY)
     assert all(state == "FAILED" and "does not exist" in why for state, why in got), got
+
+
+# The two-digit-year rival rows above, read by Python's datetime.strptime (%y: the POSIX rule):
+# (text, format, ISO, or None where strptime must refuse the text).
+YY_BY_STRPTIME = [
+    ("25/04/18", "%d/%m/%y", "2018-04-25"),
+    ("25/04/18", "%y/%m/%d", "2025-04-18"),
+    ("25/04/18", "%m/%d/%y", None),
+    ("04/25/18", "%m/%d/%y", "2018-04-25"),
+    ("04/25/18", "%y/%m/%d", None),
+    ("18/04/18", "%d/%m/%y", "2018-04-18"),
+    ("18/04/18", "%y/%m/%d", "2018-04-18"),
+    ("04/25/19", "%d/%m/%y", None),
+    ("04/25/19", "%y/%m/%d", None),
+    ("13/12/05", "%d/%m/%y", "2005-12-13"),
+    ("13/12/05", "%y/%m/%d", "2013-12-05"),
+    ("25/04/30", "%y/%m/%d", "2025-04-30"),
+    ("25/04/30", "%d/%m/%y", "2030-04-25"),
+    ("25/04/30", "%m/%d/%y", None),
+]
+
+
+def test_yy_by_strptime_rows_do_not_repeat() -> None:
+    assert len({r[:2] for r in YY_BY_STRPTIME}) == len(YY_BY_STRPTIME)
+
+
+@pytest.mark.parametrize(("text", "fmt", "iso"), YY_BY_STRPTIME)
+def test_two_digit_year_rival_readings_by_strptime(text: str, fmt: str, iso: str | None) -> None:
+    if iso is None:
+        with pytest.raises(ValueError):
+            datetime.datetime.strptime(text, fmt)
+    else:
+        assert datetime.datetime.strptime(text, fmt).date().isoformat() == iso

@@ -152,6 +152,9 @@ class Census:
     notes_evidence: list[str] = field(default_factory=list)
     notes_warn: list[str] = field(default_factory=list)
     rivals: list[str] = field(default_factory=list)
+    #: Values that are no evidence of day/month order: read year first, or with the year's
+    #: place undecided (see ``evidence._year_place``).
+    order_blind: np.ndarray | None = None
     sample_note: str | None = None
     parsed_cache: dict = field(default_factory=dict)
     feats: dict | None = None

@@ -133,53 +133,99 @@ def choose_patterns(c: Census, ref_year: int) -> list[str]:
     return chosen + digits
 
 
-def _any_ok(c: Census, pids: list[str], live: np.ndarray) -> np.ndarray:
-    out = np.zeros(len(live), bool)
-    for p in pids:
-        out |= c.readings[p].ok & live
-    return out
-
-
 def _year_place(c: Census, chosen: list[str], live: np.ndarray) -> list[str]:
     """Where a two-digit year stands: 24/03/15 is 24 March 2015 (year last) or 2024-03-15
-    (year first). A value only one way can read (98/12/31, 15/03/85, 13/04/2021 with any
-    separator) decides for the whole column; when none does, or both kinds occur, the two stay
-    rivals and the values they read differently stay ambiguous (issue 3 point 4)."""
+    (year first). Only two-digit years written with the same separator show it: a value only
+    one place can read (98/12/31 and 87-06-30 year first; 15/03/85 and 31.12.98 year last)
+    decides for the values of its form. A four-digit year (13/04/2021, 1993/06/30) shows where
+    the writer put *that* year, not where a two-digit one stands, and 31/12/70 says nothing of
+    25-01-19, so those decide nothing here. Values left undecided stay ambiguous (issue 3
+    point 4), and are no evidence of the day/month order either: 25/04/18 is "day first" only
+    if its year is last (``Census.order_blind``)."""
     firsts = [p for p in chosen if p.startswith("yymd-")]
     if not firsts:
         return chosen
-    lasts = [p for p in chosen if p.startswith("num-")]
-    f_ok = np.zeros(len(live), bool)
+    n = len(live)
+    reads: dict[str, tuple[np.ndarray, np.ndarray, np.ndarray]] = {}
+    l_all = np.zeros(n, bool)  # read year last (some day order), any separator
+    both_all = np.zeros(n, bool)
+    order = np.zeros(n, np.int8)  # the day/month order a year-last reading allows
+    for p in chosen:
+        if p.startswith("num-"):
+            r = c.readings[p]
+            m = (r.ok | r.ambiguous) & live
+            l_all |= m
+            order = np.where(m, r.order, order)
     for p in firsts:
-        f_ok |= c.readings[p].ok & live
-    # A four-digit year first with the same separators (1993/06/30) shows the writer puts the
-    # year first; ISO 8601 dates do not (they sit beside any local form).
-    f_ok |= _any_ok(c, [p for p in chosen if p.startswith("ymd-")], live)
-    l_ok = np.zeros(len(live), bool)
-    for p in lasts:
-        l_ok |= (c.readings[p].ok | c.readings[p].ambiguous) & live
-    only_first = _n(c.weights[f_ok & ~l_ok].sum())
-    only_last = _n(c.weights[l_ok & ~f_ok].sum())
+        f_ok = c.readings[p].ok & live
+        rival = "num-" + p.split("-")[1]
+        l_any = np.zeros(n, bool)
+        l_two = np.zeros(n, bool)
+        if rival in chosen:
+            r = c.readings[rival]
+            l_any = (r.ok | r.ambiguous) & live
+            l_two = l_any & r.two_digit
+        reads[p] = (f_ok, l_any, l_two)
+        both_all |= f_ok & l_any
+    # Day/month order shown by values whose year's place is not in question.
+    settled = l_all & ~both_all
+    s_dmy = (settled & (order == EV_DMY)).any()
+    s_mdy = (settled & (order == EV_MDY)).any()
+    blind = np.zeros(n, bool)
     out = list(chosen)
-    if only_first and not only_last:
-        for p in firsts:
-            rival = "num-" + p.split("-")[1]
-            if rival in out and not (c.readings[rival].ok & live & ~f_ok).any():
+    for p, (f_ok, l_any, l_two) in reads.items():
+        rival = "num-" + p.split("-")[1]
+        both = f_ok & l_any
+        only_first = _n(c.weights[f_ok & ~l_any].sum())
+        only_last = _n(c.weights[l_two & ~f_ok].sum())
+        first_lab, last_lab = label(p), label(rival, two_digit_year=True)
+        if not f_ok.any():
+            out.remove(p)
+        elif only_first and not only_last:
+            if rival in out and l_any[~f_ok].any():
+                # Kept for four-digit years (5/7/1950), but after the year-first reading.
+                out.remove(p)
+                out.insert(out.index(rival), p)
+            elif rival in out:
                 out.remove(rival)
-        c.notes_evidence.append(
-            f"year first (YY/MM/DD): {only_first} values can only be read with the year first"
-        )
-        return out
-    if (only_last and not only_first) or not (f_ok & l_ok).any():
-        return [p for p in out if p not in firsts]
-    pairs = [(f"num-{p.split('-')[1]}", p) for p in firsts if f"num-{p.split('-')[1]}" in out]
-    for pair in pairs:
-        c.rivals.extend(p for p in pair if p not in c.rivals)
-    c.notes_warn.append(
-        "two-digit years could stand first (YY/MM/DD) or last (D/M/YY or M/D/YY) and "
-        + ("the column has values of both kinds" if only_first else "no value shows which")
-        + "; values the two read differently stay ambiguous"
-    )
+            blind |= f_ok
+            c.notes_evidence.append(
+                f"year first ({first_lab}): {only_first} values can only be read with the "
+                "year first"
+            )
+        elif only_last and not only_first:
+            # Year last, unless values that read both ways would then go against the day/month
+            # order the rest of the column shows (25-08-23 beside 2-17-84): both readings of
+            # them contradict something, so they stay ambiguous.
+            against = both & (
+                ((order == EV_DMY) & s_mdy & ~s_dmy) | ((order == EV_MDY) & s_dmy & ~s_mdy)
+            )
+            if not against.any():
+                out.remove(p)
+                c.notes_evidence.append(
+                    f"year last ({last_lab}): {only_last} values can only be read with the "
+                    "year last"
+                )
+                continue
+            c.rivals.extend(q for q in (rival, p) if q not in c.rivals)
+            blind |= both
+            said = "month-first" if s_mdy else "day-first"
+            c.notes_warn.append(
+                f"two-digit years stand last ({last_lab}) in {only_last} values, but "
+                f"{_n(c.weights[against].sum())} values read that way go against the column's "
+                f"{said} order, and read year first ({first_lab}) against the others; they "
+                "stay ambiguous"
+            )
+        else:
+            if rival in out:
+                c.rivals.extend(q for q in (rival, p) if q not in c.rivals)
+            blind |= both
+            c.notes_warn.append(
+                f"two-digit years could stand first ({first_lab}) or last ({last_lab}) and "
+                + ("the column has values of both kinds" if only_first else "no value shows which")
+                + "; values the two read differently stay ambiguous"
+            )
+    c.order_blind = blind
     return out
 
 
@@ -187,12 +233,14 @@ def decide_day_order(
     c: Census, patterns: list[str], prefer: str | None
 ) -> tuple[str | None, list[str], list[str]]:
     live = _live(c)
+    # Values whose year's place is year first or undecided are no evidence of the order.
+    blind = c.order_blind if c.order_blind is not None else np.zeros(len(live), bool)
     n = {EV_DMY: 0, EV_MDY: 0, EV_BOTH_SMALL: 0}
     for p in patterns:
         if not PATTERNS[p].uses_day_order:
             continue
         r = c.readings[p]
-        seen = (r.ok | r.ambiguous) & live
+        seen = (r.ok | r.ambiguous) & live & ~blind
         for code in n:
             n[code] += _n(c.weights[seen & (r.order == code)].sum())
     dmy, mdy, both = n[EV_DMY], n[EV_MDY], n[EV_BOTH_SMALL]

@@ -128,7 +128,9 @@ def scan_column(
         )
         extra = unread_patterns(census, full, base)
         if extra:
-            pats = [p for p in PATTERNS if p in base.patterns or p in extra]
+            pats = _keep_year_first(
+                [p for p in PATTERNS if p in base.patterns or p in extra], base.patterns
+            )
             rest = [p for p in base.patterns if p not in pats]
             base = _evolve(base, patterns=(*pats, *rest))
             notes.append(
@@ -291,6 +293,19 @@ def _alternatives(
             )
         )
     return out
+
+
+def _keep_year_first(pats: list[str], before: tuple[str, ...]) -> list[str]:
+    """``pats`` with each YY/MM/DD pattern still ahead of its D/M/YY rival where the scan put it
+    there (the column's two-digit years stand first), so a pattern added later cannot undo it."""
+    for p in before:
+        if not p.startswith("yymd-"):
+            continue
+        rival = "num-" + p.split("-")[1]
+        if rival in pats and (rival not in before or before.index(p) < before.index(rival)):
+            pats.remove(p)
+            pats.insert(pats.index(rival), p)
+    return pats
 
 
 def _evolve(spec: ParseSpec, **changes: object) -> ParseSpec:

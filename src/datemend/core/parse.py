@@ -25,7 +25,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import weakref
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 import pandas as pd
@@ -33,7 +33,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from .clean import NAIVE, CellState, ParsedColumn
-from .fields import Reading, _Features, features, read_pattern
+from .fields import EV_DMY, EV_MDY, Reading, _Features, features, read_pattern
 from .names import ORDINAL_SUFFIX_RE
 from .patterns import label, pattern
 from .spec import ParseSpec
@@ -274,12 +274,13 @@ def _read_rivals(
         year=np.zeros(n, np.int64),
     )
     ks = np.full(n, -1, dtype=np.int16)
-    reads = []
-    for k, pid in enumerate(spec.patterns):
-        if pid not in spec.rivals:
-            continue
-        r = read_pattern(pattern(pid), texts, spec, feats)
-        reads.append((k, pid, r))
+    reads = [
+        (k, pid, read_pattern(pattern(pid), texts, spec, feats))
+        for k, pid in enumerate(spec.patterns)
+        if pid in spec.rivals
+    ]
+    against = _against_order(texts, feats, spec, reads)
+    for k, _pid, r in reads:
         take = r.ok & ~comb.ok
         for f in ("value", "offset", "has_time", "timed", "order", "two_digit", "year"):
             getattr(comb, f)[take] = getattr(r, f)[take]
@@ -297,10 +298,7 @@ def _read_rivals(
         texts_by = []
         for _, pid, r in reads:
             iso = iso_text(r.value[idx].view("datetime64[us]"), r.offset[idx], r.has_time[idx])
-            kw = {"day_order": spec.day_order, "date_system": spec.date_system}
-            labs = np.where(
-                r.two_digit[idx], label(pid, two_digit_year=True, **kw), label(pid, **kw)
-            )
+            labs = _rival_labels(pid, r, idx, spec, against)
             shown = [f"{t} ({lab})" for t, lab in zip(iso, labs, strict=True)]
             texts_by.append(np.where(r.ok[idx], shown, ""))
         comb.reason[idx] = [
@@ -330,6 +328,75 @@ def _read_rivals(
     comb.ambiguous = conflict
     comb.ok &= ~conflict
     return comb, ks
+
+
+def _against_order(
+    texts: pa.Array, feats: _Features, spec: ParseSpec, reads: list[tuple[int, str, Reading]]
+) -> np.ndarray:
+    """Texts a YY/MM/DD rival reads that the D/M/YY (or M/D/YY) rival reads only in the day
+    order the spec did not choose (25/04/18 in a month-first column). The column's day order
+    says nothing of where a two-digit year stands, so that reading still counts: such a text
+    is ambiguous, not silently year first. The num rival's reading is widened in place."""
+    n = len(texts)
+    against = np.zeros(n, bool)
+    if spec.day_order is None:
+        return against
+    first = np.zeros(n, bool)
+    for _, pid, r in reads:
+        if pid.startswith("yymd-"):
+            first |= r.ok
+    if not first.any():
+        return against
+    other = replace(spec, day_order="mdy" if spec.day_order == "dmy" else "dmy")
+    for _, pid, r in reads:
+        if pattern(pid).kind != "num":
+            continue
+        idx = np.flatnonzero(r.matched & ~r.ok & ~r.ambiguous & first)
+        if not len(idx):
+            continue
+        sub = texts.take(pa.array(idx))
+        r2 = read_pattern(pattern(pid), sub, other, feats.subset(idx, sub))
+        read = r2.ok | r2.ambiguous  # ambiguous: its century is undecided too
+        hit = idx[read]
+        for f in ("value", "offset", "has_time", "timed", "order", "two_digit", "year"):
+            getattr(r, f)[hit] = getattr(r2, f)[read]
+        r.ok[hit] = r2.ok[read]
+        r.ambiguous[hit] = r2.ambiguous[read]
+        r.reason[hit] = r2.reason[read]
+        against[hit] = True
+    return against
+
+
+def _rival_labels(
+    pid: str, r: Reading, idx: np.ndarray, spec: ParseSpec, against: np.ndarray
+) -> np.ndarray:
+    """Labels of one rival's readings of some texts: "D/M/YY", "M/D/YYYY", "YY/MM/DD", and
+    for a reading against the spec's day order, "D/M/YY, against the column's month-first
+    order". Undecided day orders are named by the order the text's fields allow."""
+    kw = {"date_system": spec.date_system}
+    if pattern(pid).kind != "num":
+        return np.where(
+            r.two_digit[idx],
+            label(pid, two_digit_year=True, day_order=spec.day_order, **kw),
+            label(pid, day_order=spec.day_order, **kw),
+        )
+    two = r.two_digit[idx]
+    ag = against[idx]
+    if spec.day_order is None:
+        code = r.order[idx]
+        order = np.where(code == EV_DMY, "dmy", np.where(code == EV_MDY, "mdy", ""))
+    else:
+        order = np.where(ag, "mdy" if spec.day_order == "dmy" else "dmy", spec.day_order)
+    out = np.empty(len(idx), dtype=object)
+    for o in ("dmy", "mdy", ""):
+        for t in (False, True):
+            m = (order == o) & (two == t)
+            if m.any():
+                out[m] = label(pid, day_order=o or None, two_digit_year=t, **kw)
+    if ag.any():
+        said = "day-first" if spec.day_order == "dmy" else "month-first"
+        out[ag] = out[ag] + f", against the column's {said} order"
+    return out
 
 
 def _take(out: TextResult, rows: np.ndarray, r: Reading, ks: np.ndarray) -> None:

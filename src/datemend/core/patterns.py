@@ -23,8 +23,9 @@ Pattern ids (JSON-safe, never renamed):
                    ``4/12/85``; likewise ``num-dash`` (``12-04-1985``), ``num-dot``
                    (``12.04.1985``) and ``num-space`` (``12 04 1985``)
 ``yymd-slash``     a two-digit year first: ``85/04/12``; likewise ``yymd-dash``
-                   (``85-04-12``) and ``yymd-dot`` (``85.04.12``); where nothing in the
-                   column shows the year's place, ``num-*`` and these stay rivals
+                   (``85-04-12``) and ``yymd-dot`` (``85.04.12``); the year's place is
+                   shown only by two-digit years with the same separator (98/12/31, 15/03/85);
+                   where none does, ``num-*`` and these stay rivals
 ``name-dmy``       ``12 April 1985``, ``Fri 12th Apr 85``, ``12-avr.-1985``, ``12. März 1985``
 ``name-mdy``       ``April 12, 1985``, ``Friday, Apr 12th 1985``
 ``name-ymd``       ``1985 Apr 12``, ``1985-apr-12``

@@ -34,7 +34,11 @@ class ParseSpec:
     ``naive_zone``: when converting, the zone naive values are taken to be in (None: left naive).
     ``rivals``: pattern ids (also listed in ``patterns``) that compete for the same texts, such
     as YYMMDD and DDMMYY: where two of them read a text as different dates, the cell is
-    AMBIGUOUS and its reason gives each reading; where only one reads it, that one wins.
+    AMBIGUOUS and its reason gives each reading; where only one reads it, that one wins. For a
+    two-digit year's place (``num-*`` and ``yymd-*`` rivals) the day order says nothing of
+    where the year stands, so a ``num-*`` reading in the other day order still counts against
+    the ``yymd-*`` one: 25/04/18 in a month-first column stays AMBIGUOUS (25 April 2018 or
+    2025-04-18), not silently year first.
     ``plausible``: (pattern id, first year, last year) for number readings (serial, epoch,
     compact digits): a number its reading puts outside those years, and that one of the
     ``alternates`` (number pattern ids) also reads, is AMBIGUOUS with both readings, so

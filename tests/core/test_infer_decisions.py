@@ -463,6 +463,23 @@ def test_a_conflicting_year_place_says_why() -> None:
     ), best.warnings
 
 
+def test_a_tied_number_reading_still_competes_with_an_implausible_earlier_one() -> None:
+    # 916125804 is epoch seconds (1999-01-12T07:23:24Z); "10122021" as epoch seconds is
+    # 1970-04-28T03:40:21Z, outside the epoch years, and as DDMMYYYY 2021-12-10 or MMDDYYYY
+    # 2021-10-12, which tie. None of the three is taken (found by the round trip).
+    # References: datetime.fromtimestamp(…, UTC) and datetime.strptime("%d%m%Y" / "%m%d%Y").
+    assert dt.datetime.fromtimestamp(10122021, dt.UTC).isoformat() == "1970-04-28T03:40:21+00:00"
+    assert dt.datetime.strptime("10122021", "%d%m%Y").date().isoformat() == "2021-12-10"
+    assert dt.datetime.strptime("10122021", "%m%d%Y").date().isoformat() == "2021-10-12"
+    c = col(["10122021", 916125804], text=False)
+    parsed = parse_column(c, scan_column(c, reference_year=2026).best.spec)
+    assert parsed.state[0] == CellState.AMBIGUOUS, parsed.value[0]
+    for reading in ("1970-04-28T03:40:21+00:00", "2021-12-10", "2021-10-12"):
+        assert reading in parsed.reason[0], parsed.reason[0]
+    epoch = dt.datetime.fromtimestamp(916125804, dt.UTC).replace(tzinfo=None)
+    assert parsed.value[1] == np.datetime64(epoch, "us")
+
+
 def test_a_number_outside_plausible_years_with_another_reading_is_ambiguous() -> None:
     # Among epoch seconds, "21001121" is 1970-09-01T01:38:41Z (epoch) or 2100-11-21
     # (YYYYMMDD, datetime.strptime "%Y%m%d"): neither is taken silently.

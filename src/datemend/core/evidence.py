@@ -111,9 +111,11 @@ def choose_patterns(c: Census, ref_year: int) -> list[str]:
             # A later reading that makes sense of values an earlier one reads only
             # implausibly (121603: serial 2232-12-07, or MMDDYY 2003-12-16) competes with it
             # there: those values stay ambiguous rather than go to whichever comes first.
+            # (The tie just above may already have made ``best`` a rival: ``d`` still joins.)
             mine = plausible(best, left)
             for d in digits:
-                if (mine & c.readings[d].ok).any() and best not in c.rivals:
+                paired = d in c.rivals and best in c.rivals
+                if (mine & c.readings[d].ok).any() and not paired:
                     for g in (d, best):
                         if g not in c.rivals:
                             c.rivals.append(g)

@@ -190,3 +190,22 @@ def test_a_scan_can_be_stopped_between_its_steps(club):
 
     with pytest.raises(Cancelled):
         scan(raw, progress=StopAfterTwo())
+
+
+def test_keys_are_found_one_by_one_and_many_at_once_alike(tmp_path):
+    from datemend.core.rowkey import find_rows, is_key_column, key_of_row, prefetch_rows
+
+    path = tmp_path / "keys.csv"
+    path.write_text("id,dup,gap\n A7 ,x,1\nB8,x,\nC9,y,3\n", encoding="utf-8")
+    raw = read_table(path)
+    # by hand: "id" is unique once trimmed; "dup" repeats x; "gap" has an empty cell
+    assert is_key_column(raw.column("id"))
+    assert not is_key_column(raw.column("dup"))
+    assert not is_key_column(raw.column("gap"))
+    one = {k: list(find_rows(raw, "dup", k)) for k in ("x", "y", "z")}
+    assert one == {"x": [0, 1], "y": [2], "z": []}
+    prefetch_rows(raw, "dup", ["x", " y ", "z"])
+    assert {k: list(find_rows(raw, "dup", k)) for k in ("x", "y", "z")} == one
+    assert list(find_rows(raw, "id", "A7")) == [0]  # the cell " A7 " trimmed
+    assert key_of_row(raw, "id", 0) == "A7"
+    assert not raw.column("id").materialised

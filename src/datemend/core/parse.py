@@ -548,10 +548,13 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         if numeric.any():
             at = np.flatnonzero(numeric)
             codes, nums = pd.factorize(column.values[at])
+            code_at = code_at.astype(np.int64)  # a writable copy (Arrow's codes are not)
             code_at[at] = codes + len(uniques)
             texts = np.array([_num_text(u) for u in nums], dtype=object)
             uniques = np.concatenate([uniques, texts])
         out = (rows, code_at[rows], uniques)
+    if len(column) < 2**31:  # kept for the column's life: half the memory of int64
+        out = (out[0].astype(np.int32, copy=False), out[1].astype(np.int32, copy=False), out[2])
     _DISTINCT[column] = out
     return out
 
@@ -563,7 +566,7 @@ def _encode(arr: pa.Array) -> tuple[np.ndarray, np.ndarray]:
     codes = enc.indices
     if codes.null_count:
         codes = pc.fill_null(codes, -1)
-    codes = codes.to_numpy(zero_copy_only=False).astype(np.int64, copy=False)
+    codes = codes.to_numpy(zero_copy_only=False)
     return codes, enc.dictionary.to_numpy(zero_copy_only=False).astype(object, copy=False)
 
 

@@ -13,6 +13,7 @@ from __future__ import annotations
 import codecs
 import csv
 import io
+import re
 import sys
 from collections import Counter
 from dataclasses import dataclass
@@ -46,6 +47,26 @@ _BOMS = (
     (codecs.BOM_UTF16_BE, "utf-16"),
 )
 _SAMPLE_CHARS = 256 * 1024
+_BLANK_BYTES = re.compile(rb"\s*")  # what bytes.strip() removes: ASCII whitespace
+_BLANK_TEXT = re.compile(rb"(?:[\r\n\t ]|\xef\xbb\xbf)*")  # blank lines and BOMs (UTF-8)
+_PIECE = 1 << 22
+
+
+def _utf8_start(data: bytes) -> int | None:
+    """Where the text starts (0, or 3 after a UTF-8 byte-order mark) if ``data`` is valid
+    UTF-8 with no other byte-order mark; else None. Checked a piece at a time."""
+    start = len(codecs.BOM_UTF8) if data.startswith(codecs.BOM_UTF8) else 0
+    if not start and any(data.startswith(bom) for bom, _ in _BOMS):
+        return None
+    check = codecs.getincrementaldecoder("utf-8")()
+    view = memoryview(data)
+    try:
+        for i in range(start, len(data), _PIECE):
+            check.decode(view[i : i + _PIECE])
+        check.decode(b"", final=True)
+    except UnicodeDecodeError:  # decode_text then tells the encoding, or what is wrong
+        return None
+    return start
 
 
 @dataclass(frozen=True)
@@ -144,16 +165,16 @@ def detect_text_format(path: str, data: bytes | None = None) -> TextFormat:
 
 
 def _fast_parse(
-    data: bytes, delim: str, width: int, *, multiline: bool
+    data: pa.Buffer, delim: str, width: int, *, multiline: bool
 ) -> tuple[list[pa.Array], list[np.ndarray], np.ndarray]:
     """pyarrow parse of UTF-8 ``data``, all columns as strings, kept as Arrow string arrays
     (empty fields as nulls). ``multiline`` says the text may hold line breaks inside quoted
     fields or lone CRs, so line numbers must be counted. Raises pa.ArrowInvalid on ragged rows."""
     names = [f"f{i}" for i in range(width)]
     table = pacsv.read_csv(
-        io.BytesIO(data),
+        pa.BufferReader(data),
         read_options=pacsv.ReadOptions(
-            column_names=names, block_size=max(1 << 22, min(len(data) + 1, 1 << 26))
+            column_names=names, block_size=max(1 << 22, min(data.size + 1, 1 << 26))
         ),
         parse_options=pacsv.ParseOptions(
             delimiter=delim,
@@ -174,8 +195,11 @@ def _fast_parse(
     kinds: list[np.ndarray] = []
     breaks = np.zeros(n_rows, dtype=np.int64)
     null = pa.scalar(None, pa.string())
-    for j in range(table.num_columns):
-        col = table.column(j)
+    parsed = list(table.columns)
+    del table  # each column's pieces are let go as soon as that column is done
+    for j in range(len(parsed)):
+        col = parsed[j]
+        parsed[j] = None
         col = col.combine_chunks() if col.num_chunks != 1 else col.chunk(0)
         # An empty field has no value (a null); a whitespace-only one keeps its text (kind
         # EMPTY, so the engine treats it as blank) so an export can write it back as it was.
@@ -188,7 +212,6 @@ def _fast_parse(
             cr = pc.count_substring(col, "\r").to_numpy(zero_copy_only=False)
             crlf = pc.count_substring(col, "\r\n").to_numpy(zero_copy_only=False)
             breaks += lf + cr - crlf
-    del table
     lines = np.arange(1, n_rows + 1, dtype=np.int64)
     if breaks.any():
         lines[1:] += np.cumsum(breaks)[:-1]
@@ -233,40 +256,55 @@ def read_text_table(
     from pathlib import Path
 
     name = Path(path).name
-    if not data.strip():
+    if _BLANK_BYTES.fullmatch(data):
         raise ReadError(f"{name} is empty: it has no text to read.", path)
-    text, enc, _bom, note = decode_text(data, name)
-    if not text.strip("\r\n\t \ufeff"):
-        raise ReadError(
-            f"{name} has no text to read (only blank lines or a byte-order mark).", path
+    start = _utf8_start(data)
+    if start is None:  # another encoding: decode it whole (such files are seldom large)
+        text, enc, _bom, note = decode_text(data, name)
+        if not text.strip("\r\n\t \ufeff"):
+            raise ReadError(
+                f"{name} has no text to read (only blank lines or a byte-order mark).", path
+            )
+        sample = _sample(text)
+        has_nul = "\x00" in text
+        multiline = "\r" in text or ("\n" in text and '"' in text)
+        body = pa.py_buffer(text.encode("utf-8"))
+    else:
+        # UTF-8: checked a piece at a time and parsed from the file's own bytes, so a large
+        # file is never held twice over as bytes and as text
+        text, note = None, None
+        enc = "utf-8-sig" if start else "utf-8"
+        if _BLANK_TEXT.fullmatch(data, start):
+            raise ReadError(
+                f"{name} has no text to read (only blank lines or a byte-order mark).", path
+            )
+        head = data[start : start + 4 * _SAMPLE_CHARS + 4].decode("utf-8", "ignore")
+        sample = _sample(head)
+        has_nul = data.find(b"\x00", start) >= 0
+        multiline = data.find(b"\r", start) >= 0 or (
+            data.find(b"\n", start) >= 0 and data.find(b'"', start) >= 0
         )
+        body = pa.py_buffer(data).slice(start)
     if progress is not None:
         progress.report(1, 4, f"Reading {name} ({enc})")
     prefer = "\t" if Path(path).suffix.lower() == ".tsv" else None
-    sample = _sample(text)
     delim = _sniff_delimiter(sample, prefer)
     notes = [note] if note else []
-    if "\x00" in text:
+    if has_nul:
         notes.append(f"{name} contains NUL characters; they were kept in the values.")
     try:
         widths = [len(r) for r in csv.reader(io.StringIO(sample, newline=""), delimiter=delim)]
     except csv.Error:
         widths = []
     width = max(widths, default=1) or 1
-    raw = data[len(codecs.BOM_UTF8) :] if enc == "utf-8-sig" else (data if enc == "utf-8" else None)
-    multiline = "\r" in text or ("\n" in text and '"' in text)
     try:
-        if raw is None:
-            values, kinds, lines = _fast_parse(text.encode("utf-8"), delim, width,
-                                               multiline=multiline)  # fmt: skip
-        else:
-            # the decoded text is only needed again if the fast parse fails; the file's own
-            # bytes are parsed, so a large file is not held twice over
-            del text
-            values, kinds, lines = _fast_parse(raw, delim, width, multiline=multiline)
+        values, kinds, lines = _fast_parse(body, delim, width, multiline=multiline)
     except (pa.ArrowInvalid, pa.ArrowException, ValueError):
-        text = decode_text(data, name)[0]
+        if text is None:
+            text = decode_text(data, name)[0]
         values, kinds, lines = _slow_parse(text, delim)
+    del body, text
+    pa.default_memory_pool().release_unused()  # hand the parse's scratch memory back
     if progress is not None:
         progress.report(3, 4, f"Read {len(lines):,} lines of {name}")
     facts = SourceFacts(

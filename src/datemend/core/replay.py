@@ -14,13 +14,15 @@ from collections.abc import Sequence
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pac
 
 from .applylog import apply_log
 from .clean import CellState, CleanTable
 from .fixlog import FixLog
 from .progress import Progress
 from .replay_report import CellGroup, ColumnDrift, LostKey, MissingColumn, ReplayReport
-from .rowkey import cells_text, find_rows
+from .rowkey import cells_text, find_rows, prefetch_rows
 from .spec import ParseSpec
 from .steps import ApplyContext, ReadDates, SetCell
 from .table import RawColumn, RawTable
@@ -130,19 +132,17 @@ def drift_report(log: FixLog, table: CleanTable) -> ReplayReport:
 
 def _row_changes(log: FixLog, raw: RawTable) -> tuple[tuple[str, ...], tuple[str, ...]]:
     """Keys new since the log's source and keys gone, when the log kept its source's keys."""
-    from .rowkey import key_text
+    from .rowkey import key_array
 
     src = log.source
     key = log.key_column
     if src is None or not src.keys or key is None or key not in raw:
         return (), ()
-    now = [str(k) for k in key_text(raw.column(key))]
-    before = set(src.keys)
-    here = set(now)
-    return (
-        tuple(k for k in now if k not in before),
-        tuple(k for k in src.keys if k not in here),
-    )
+    now = key_array(raw.column(key))
+    before = pa.array(list(src.keys), pa.string())
+    new = now.filter(pac.invert(pac.is_in(now, value_set=before)))
+    gone = before.filter(pac.invert(pac.is_in(before, value_set=now)))
+    return tuple(new.to_pylist()), tuple(gone.to_pylist())
 
 
 def _read_columns(log: FixLog) -> dict[str, ParseSpec]:
@@ -343,6 +343,12 @@ def _out_of_range(
 
 def _lost_keys(log: FixLog, raw: RawTable) -> tuple[LostKey, ...]:
     out = []
+    by_key: dict[str | None, list[str]] = {}
+    for e in log.entries:
+        if e.enabled and isinstance(e.step, SetCell):
+            by_key.setdefault(e.step.key_column, []).append(e.step.key)
+    for key_column, keys in by_key.items():
+        prefetch_rows(raw, key_column, keys)
     for i, e in enumerate(log.entries, start=1):
         s = e.step
         if not e.enabled or not isinstance(s, SetCell):

@@ -13,6 +13,7 @@ from collections.abc import Sequence
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
 import pyarrow.compute as pc
 
 from .table import CellKind, RawColumn, RawTable
@@ -23,8 +24,10 @@ __all__ = [
     "detect_key_column",
     "find_rows",
     "is_key_column",
+    "key_array",
     "key_of_row",
     "key_text",
+    "prefetch_rows",
 ]
 
 #: Header words that suggest an identifier (common practice, no source).
@@ -32,25 +35,31 @@ _KEY_WORDS = re.compile(r"(^|[^a-z])(id|no|nr|num|number|key|code|ref|reference)
 
 _KINDS_OK = np.array([CellKind.TEXT, CellKind.INT], dtype=np.int8)
 
-_index_cache: weakref.WeakKeyDictionary[RawColumn, pd.Index] = weakref.WeakKeyDictionary()
+_trimmed_cache: weakref.WeakKeyDictionary[RawColumn, pa.Array] = weakref.WeakKeyDictionary()
+
+
+def key_array(column: RawColumn) -> pa.Array:
+    """The column's cells as trimmed text, "" for empty, as an Arrow string array (cached per
+    column): lookups and uniqueness checks hash it in Arrow, with no Python object per cell."""
+    arr = _trimmed_cache.get(column)
+    if arr is None:
+        if column.arrow is not None:
+            arr = pc.fill_null(pc.utf8_trim_whitespace(column.arrow), "")
+        else:
+            text = pa.array(column.text().to_numpy(dtype=object), pa.string(), from_pandas=True)
+            arr = pc.fill_null(pc.utf8_trim_whitespace(text), "")
+        _trimmed_cache[column] = arr
+    return arr
 
 
 def column_text(column: RawColumn) -> pd.Series:
     """Every cell as trimmed text, "" for empty (Arrow strings: trimmed without a Python loop)."""
-    if column.arrow is not None:  # text cells only: no object per cell is made
-        trimmed = pc.fill_null(pc.utf8_trim_whitespace(column.arrow), "")
-        return pd.Series(pd.arrays.ArrowStringArray(trimmed), dtype="string[pyarrow]")
-    text = column.text().astype("string[pyarrow]").str.strip()
-    return text.fillna("").reset_index(drop=True)
+    return pd.Series(pd.arrays.ArrowStringArray(key_array(column)), dtype="string[pyarrow]")
 
 
 def key_text(column: RawColumn) -> pd.Index:
-    """The column's cells as trimmed text, as an Index for lookups (cached per column)."""
-    idx = _index_cache.get(column)
-    if idx is None:
-        idx = pd.Index(column_text(column))
-        _index_cache[column] = idx
-    return idx
+    """The column's cells as trimmed text, as an Index (see ``key_array`` for lookups)."""
+    return pd.Index(pd.arrays.ArrowStringArray(key_array(column)))
 
 
 def cells_text(column: RawColumn, rows: np.ndarray | Sequence[int]) -> pd.Series:
@@ -64,8 +73,10 @@ def is_key_column(column: RawColumn) -> bool:
     """Every cell non-empty text or integer, and no two cells alike after trimming."""
     if len(column) == 0 or not np.isin(column.kinds, _KINDS_OK).all():
         return False
-    idx = key_text(column)
-    return bool(idx.is_unique) and not bool((idx == "").any())
+    arr = key_array(column)
+    if pc.any(pc.equal(arr, "")).as_py():
+        return False
+    return pc.count_distinct(arr).as_py() == len(arr)
 
 
 def detect_key_column(raw: RawTable) -> str | None:
@@ -90,13 +101,35 @@ def find_rows(raw: RawTable, key_column: str | None, key: str) -> np.ndarray:
         return np.flatnonzero(raw.source_rows == int(key))
     if key_column not in raw:
         return np.empty(0, dtype=np.int64)
-    idx = key_text(raw.column(key_column))
-    return _positions(idx, key.strip())
+    column = raw.column(key_column)
+    key = key.strip()
+    known = _found_cache.get(column)
+    if known is not None and key in known:
+        return known[key]
+    hit = pc.equal(key_array(column), key)
+    return np.flatnonzero(hit.to_numpy(zero_copy_only=False)).astype(np.int64)
 
 
-def _positions(idx: pd.Index, key: str) -> np.ndarray:
-    found = np.asarray(idx.get_indexer_for([key]), dtype=np.int64)
-    return found[found >= 0]
+_found_cache: weakref.WeakKeyDictionary[RawColumn, dict[str, np.ndarray]] = (
+    weakref.WeakKeyDictionary()
+)
+
+
+def prefetch_rows(raw: RawTable, key_column: str | None, keys: Sequence[str]) -> None:
+    """Look up many keys at once (one hashing pass over the key column instead of one scan per
+    key), so the ``find_rows`` calls that follow for them are dictionary lookups."""
+    if key_column is None or key_column not in raw or len(keys) < 2:
+        return
+    column = raw.column(key_column)
+    wanted = list(dict.fromkeys(k.strip() for k in keys))
+    where = pc.index_in(key_array(column), value_set=pa.array(wanted, pa.string()))
+    codes = pc.fill_null(where, -1).to_numpy(zero_copy_only=False)
+    hit = np.flatnonzero(codes >= 0)
+    order = np.argsort(codes[hit], kind="stable")
+    bounds = np.searchsorted(codes[hit][order], np.arange(len(wanted) + 1))
+    known = _found_cache.setdefault(column, {})
+    for j, key in enumerate(wanted):
+        known[key] = hit[order[bounds[j] : bounds[j + 1]]].astype(np.int64)
 
 
 def key_of_row(raw: RawTable, key_column: str | None, row: int) -> str:
@@ -104,4 +137,4 @@ def key_of_row(raw: RawTable, key_column: str | None, row: int) -> str:
     if key_column is None:
         assert raw.source_rows is not None
         return str(int(raw.source_rows[row]))
-    return str(key_text(raw.column(key_column))[row])
+    return str(key_array(raw.column(key_column))[int(row)].as_py())

@@ -29,6 +29,7 @@ from .clean import NAIVE, CellState, CleanTable
 from .parse import parse_column
 from .spec import ParseSpec
 from .stepjson import dataclass_schema, field_hints, from_json, to_json
+from .table import CellKind
 
 __all__ = [
     "STEP_TYPES",
@@ -176,11 +177,32 @@ def _warn(table: CleanTable, text: str) -> CleanTable:
     return table if text in table.warnings else table.with_warning(text)
 
 
-def _cell_text(table: CleanTable, column: str) -> pd.Series:
-    """Each raw cell of a column as trimmed text ("" for empty)."""
+def _token_cells(table: CleanTable, column: str, wanted: set[str]) -> np.ndarray:
+    """Which cells of a column hold one of the ``wanted`` tokens (trimmed, case-folded). Each
+    distinct text is checked once, through the engine's per-column distinct values when the
+    column has only text and number cells (what a token can be)."""
+    from .parse import distinct_texts
     from .rowkey import column_text
 
-    return column_text(table.raw.column(column))
+    raw = table.raw.column(column)
+    hit = np.zeros(len(raw), dtype=bool)
+    if np.isin(raw.kinds, _TOKEN_KINDS).all():
+        rows, codes, uniques = distinct_texts(raw)
+        hit_u = np.array([str(u).strip().casefold() in wanted for u in uniques], dtype=bool)
+        if len(rows):
+            hit[rows] = hit_u[codes]
+        return hit
+    codes, uniques = pd.factorize(column_text(raw))
+    hit_u = np.array([str(u).casefold() in wanted for u in uniques], dtype=bool)
+    known = codes >= 0
+    hit[known] = hit_u[codes[known]]
+    return hit
+
+
+#: Kinds of cells ``distinct_texts`` covers (empty cells hold no token: "" is never one).
+_TOKEN_KINDS = np.array(
+    [CellKind.EMPTY, CellKind.TEXT, CellKind.INT, CellKind.FLOAT, CellKind.ERROR], dtype=np.int8
+)
 
 
 def manual_value(value: str) -> tuple[np.datetime64, int, bool]:
@@ -297,11 +319,7 @@ class BlankTokens(Step):
             if pc is None:
                 table = _not_read(table, name, "treating tokens as blank")
                 continue
-            codes, uniques = pd.factorize(_cell_text(table, name))
-            hit_u = np.array([str(u).casefold() in wanted for u in uniques], dtype=bool)
-            hit = np.zeros(len(pc), dtype=bool)
-            known = codes >= 0
-            hit[known] = hit_u[codes[known]]
+            hit = _token_cells(table, name, wanted)
             hit &= pc.state != CellState.MANUAL
             if not hit.any():
                 continue
@@ -367,7 +385,15 @@ class SetCell(Step):
     @classmethod
     def apply_many(cls, table: CleanTable, steps: Sequence[Step], ctx: ApplyContext) -> CleanTable:
         """Set many cells, copying each column's arrays once."""
+        from .rowkey import prefetch_rows
+
         copies: dict[str, dict[str, np.ndarray]] = {}
+        by_key: dict[str | None, list[str]] = {}
+        for step in steps:
+            assert isinstance(step, SetCell)
+            by_key.setdefault(step.key_column, []).append(step.key)
+        for key_column, keys in by_key.items():
+            prefetch_rows(table.raw, key_column, keys)
         for step in steps:
             assert isinstance(step, SetCell)
             table, row = step._locate(table)

@@ -109,6 +109,12 @@ ROWS = [
         "AMBIGUOUS: 2025-04-30 (YY/MM/DD), or 25 April 1930 or 25 April 2030",
         "day first against the column, and then 30 is 1930 or 2030 (century undecided)",
     ),
+    (
+        "31/04/20",
+        "yy-either",
+        "AMBIGUOUS: could be 20 April 1931 or 20 April 2031",
+        "only year first reads it (no month 31, no 31 April); 31 is 1931 or 2031",
+    ),
 ]
 
 
@@ -175,6 +181,9 @@ YY_BY_STRPTIME = [
     ("25/04/30", "%y/%m/%d", "2025-04-30"),
     ("25/04/30", "%d/%m/%y", "2030-04-25"),
     ("25/04/30", "%m/%d/%y", None),
+    ("31/04/20", "%y/%m/%d", "2031-04-20"),
+    ("31/04/20", "%d/%m/%y", None),
+    ("31/04/20", "%m/%d/%y", None),
 ]
 
 

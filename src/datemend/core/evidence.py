@@ -137,13 +137,16 @@ def choose_patterns(c: Census, ref_year: int) -> list[str]:
 
 def _year_place(c: Census, chosen: list[str], live: np.ndarray) -> list[str]:
     """Where a two-digit year stands: 24/03/15 is 24 March 2015 (year last) or 2024-03-15
-    (year first). Only two-digit years written with the same separator show it: a value only
-    one place can read (98/12/31 and 87-06-30 year first; 15/03/85 and 31.12.98 year last)
-    decides for the values of its form. A four-digit year (13/04/2021, 1993/06/30) shows where
-    the writer put *that* year, not where a two-digit one stands, and 31/12/70 says nothing of
-    25-01-19, so those decide nothing here. Values left undecided stay ambiguous (issue 3
-    point 4), and are no evidence of the day/month order either: 25/04/18 is "day first" only
-    if its year is last (``Census.order_blind``)."""
+    (year first). Only two-digit years written with the same separator show it, and only where
+    the other place holds a number that is no day or month at all: 98/12/31 and 87-06-30 (no
+    day 98, 87) are year first, 15/03/85, 31.12.98 and 2-17-84 (no day 85 or 98, no month 17)
+    year last; such a value decides for the values of its form. A value the other place fails
+    only by the calendar (25/04/31: no 31 April; 31/04/20) decides nothing, since a mistyped
+    date looks the same. A four-digit year (13/04/2021, 1993/06/30) shows where the writer put
+    *that* year, not where a two-digit one stands, and 31/12/70 says nothing of 25-01-19.
+    Values left undecided stay ambiguous (issue 3 point 4), and are no evidence of the
+    day/month order either: 25/04/18 is "day first" only if its year is last
+    (``Census.order_blind``)."""
     firsts = [p for p in chosen if p.startswith("yymd-")]
     if not firsts:
         return chosen
@@ -159,15 +162,22 @@ def _year_place(c: Census, chosen: list[str], live: np.ndarray) -> list[str]:
             l_all |= m
             order = np.where(m, r.order, order)
     for p in firsts:
-        f_ok = c.readings[p].ok & live
+        f = c.readings[p]
+        f_ok = f.ok & live
+        # Year first, and the year-last reading fails by a first field that is no day (00, 32+).
+        f_strong = f_ok & ~_day_number(f.year)
         rival = "num-" + p.split("-")[1]
         l_any = np.zeros(n, bool)
         l_two = np.zeros(n, bool)
+        l_strong = np.zeros(n, bool)
         if rival in chosen:
             r = c.readings[rival]
             l_any = (r.ok | r.ambiguous) & live
             l_two = l_any & r.two_digit
-        reads[p] = (f_ok, l_any, l_two)
+            # Year last, and the year-first reading fails by a month that is none (M/D/YY: the
+            # second field is above 12) or a last field that is no day (00, 32+).
+            l_strong = l_two & ((r.order == EV_MDY) | ~_day_number(r.year))
+        reads[p] = (f_ok, l_any, l_two, f_strong, l_strong)
         both_all |= f_ok & l_any
     # Day/month order shown by values whose year's place is not in question.
     settled = l_all & ~both_all
@@ -175,21 +185,27 @@ def _year_place(c: Census, chosen: list[str], live: np.ndarray) -> list[str]:
     s_mdy = (settled & (order == EV_MDY)).any()
     blind = np.zeros(n, bool)
     out = list(chosen)
-    for p, (f_ok, l_any, l_two) in reads.items():
+    for p, (f_ok, l_any, l_two, f_strong, l_strong) in reads.items():
         rival = "num-" + p.split("-")[1]
         both = f_ok & l_any
-        only_first = _n(c.weights[f_ok & ~l_any].sum())
-        only_last = _n(c.weights[l_two & ~f_ok].sum())
+        only_first = _n(c.weights[f_strong & ~l_any].sum())
+        only_last = _n(c.weights[l_strong & ~f_ok].sum())
         first_lab, last_lab = label(p), label(rival, two_digit_year=True)
         if not f_ok.any():
             out.remove(p)
         elif only_first and not only_last:
-            if rival in out and l_any[~f_ok].any():
+            if rival in out and (l_any & ~l_two & ~f_ok).any():
                 # Kept for four-digit years (5/7/1950), but after the year-first reading.
                 out.remove(p)
                 out.insert(out.index(rival), p)
+                odd = _n(c.weights[l_two & ~f_ok].sum())
+                if odd:
+                    c.notes_warn.append(
+                        f"{odd} values with a two-digit year read only year last ({last_lab}), "
+                        f"against the column's {first_lab}: check them"
+                    )
             elif rival in out:
-                out.remove(rival)
+                out.remove(rival)  # 25/04/31 then fails: no 31 April 2025
             blind |= f_ok
             c.notes_evidence.append(
                 f"year first ({first_lab}): {only_first} values can only be read with the "
@@ -229,6 +245,12 @@ def _year_place(c: Census, chosen: list[str], live: np.ndarray) -> list[str]:
             )
     c.order_blind = blind
     return out
+
+
+def _day_number(yy: np.ndarray) -> np.ndarray:
+    """Whether the two digits of a year read as a year (1969, 2031) could be a day: 01–31."""
+    two = yy % 100
+    return (two >= 1) & (two <= 31)
 
 
 def decide_day_order(

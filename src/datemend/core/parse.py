@@ -307,12 +307,13 @@ def _read_rivals(
         ]
     # A rival that is itself undecided (24/01/05 read D/M/YY or M/D/YY) keeps the cell open
     # even where another rival (YY/MM/DD) reads it: taking that one would be a guess.
+    # Its reason replaces that of a rival that failed on the text (31/04/20: no 31 April 2020,
+    # but 2031-04-20 or 1931-04-20 year first).
     own = np.zeros(n, bool)
     for _, _, r in reads:
-        own |= r.ambiguous & ~conflict & ~own
-        if (r.ambiguous & ~conflict).any():
-            ia = np.flatnonzero(r.ambiguous & ~conflict & (comb.reason == None))  # noqa: E711
-            comb.reason[ia] = r.reason[ia]
+        ia = np.flatnonzero(r.ambiguous & ~conflict & ~own)
+        comb.reason[ia] = r.reason[ia]
+        own[ia] = True
     if own.any():
         for _, pid, r in reads:
             io = np.flatnonzero(own & r.ok)

@@ -19,6 +19,8 @@ from enum import Enum
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pa_compute
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt, Signal
 from PySide6.QtGui import QColor
 
@@ -110,7 +112,7 @@ class CellsSource:
     raw: RawColumn
     parsed: ParsedColumn | None
     source_rows: np.ndarray
-    keys: np.ndarray | None = None  # object array of key values, one per row
+    keys: np.ndarray | RawColumn | None = None  # the key of each row (a column, or values)
     key_name: str | None = None
     rule_hits: dict[str, np.ndarray] = field(default_factory=dict)  # rule label -> rows breaking it
 
@@ -158,6 +160,18 @@ def _raw_text(value: object, kind: int) -> str:
     return str(value)
 
 
+def _distinct_text(raw: RawColumn) -> tuple[np.ndarray, np.ndarray]:
+    """(code of each cell, -1 for empty; distinct texts), hashed in Arrow for a column held as
+    Arrow strings (no Python object per cell), else through pandas."""
+    if raw.arrow is None:
+        return pd.factorize(raw.text(), use_na_sentinel=True)
+    empty = raw.kinds == CellKind.EMPTY  # whitespace-only cells count as empty, as text() does
+    arr = pa_compute.if_else(pa.array(empty), pa.scalar(None, pa.string()), raw.arrow)
+    enc = pa_compute.dictionary_encode(arr)
+    codes = pa_compute.fill_null(enc.indices, -1).to_numpy(zero_copy_only=False)
+    return codes.astype(np.int64), enc.dictionary.to_numpy(zero_copy_only=False)
+
+
 class FindIndex:
     """The distinct values of one column, lower-cased, and its distinct ISO dates: built once per
     column, so each search runs over the distinct values only and maps back with one take."""
@@ -169,7 +183,7 @@ class FindIndex:
         if old is not None and old.raw is raw:
             self.codes, self.lowered = old.codes, old.lowered
         else:
-            codes, uniques = pd.factorize(raw.text(), use_na_sentinel=True)
+            codes, uniques = _distinct_text(raw)
             self.codes = codes
             self.lowered = pd.Series(np.asarray(uniques, dtype=object), dtype=object).str.lower()
         self.iso: pd.Series | None = None
@@ -418,9 +432,12 @@ class CellsModel(QAbstractTableModel):
         if col is Column.ROW:
             return str(int(src.source_rows[r]))
         if col is Column.KEY:
-            return "" if src.keys is None or src.keys[r] is None else str(src.keys[r])
+            if src.keys is None:
+                return ""
+            key = src.keys.value(r) if isinstance(src.keys, RawColumn) else src.keys[r]
+            return "" if key is None else str(key)
         if col is Column.RAW:
-            return _raw_text(src.raw.values[r], int(src.raw.kinds[r]))
+            return _raw_text(src.raw.value(r), int(src.raw.kinds[r]))
         if p is None:
             return ""
         if col is Column.READS:

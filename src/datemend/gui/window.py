@@ -418,7 +418,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         key = s.log.key_column
         keys = None
         if key is not None and key in raw and key != self.column:
-            keys = raw.column(key).values
+            keys = raw.column(key)  # each key read when its row is shown
         assert raw.source_rows is not None
         column = (
             raw.column(self.column)

@@ -115,6 +115,9 @@ def _order_flags(p: argparse.ArgumentParser) -> None:
 def main(argv: Sequence[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    from ._memory import return_freed_memory
+
+    return_freed_memory()
     command = args.command or "open"
     from .core.progress import Cancelled
     from .core.table import DatemendError

@@ -18,6 +18,9 @@ def make_app(argv: list[str] | None = None) -> QApplication:
     """The QApplication (made once), named so settings and the log folder are ours."""
     app = QApplication.instance()
     if app is None:
+        from .._memory import return_freed_memory
+
+        return_freed_memory()  # a window may be open for hours: give freed memory back
         QApplication.setApplicationName("datemend")
         QApplication.setOrganizationName("datemend")
         app = QApplication(argv if argv is not None else sys.argv[:1])

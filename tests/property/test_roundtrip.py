@@ -5,8 +5,9 @@ AMBIGUOUS), never different.
 Two independent writers: renderers of our own built on Python's ``datetime``, ``email.utils``
 and babel (CLDR) — references outside the engine — and the engine's own
 ``datemend.core.patterns.render`` over every pattern id. A column keeps one convention (day
-order; two-digit years only in 1970–2025, where the POSIX rule and a past-events rule agree;
-1900 date system), because a value written against its column's convention has no knowable truth.
+order; where a two-digit year stands; two-digit years only in 1970–2025, where the POSIX rule
+and a past-events rule agree; 1900 date system), because a value written against its column's
+convention has no knowable truth.
 """
 
 from __future__ import annotations
@@ -41,6 +42,9 @@ class Written:
     offset: int | None  # truth: minutes east of UTC, None when naive
     numeric: str | None = None  # the number family, at most one per column
     tolerance_us: int = 0
+    #: where a two-digit year stands in a numeric date ("first": YY/MM/DD, "last": D/M/YY or
+    #: M/D/YY), at most one per column: a column mixing both has no knowable truth
+    year_place: str | None = None
 
 
 def _date_only(t: dt.datetime) -> dt.datetime:
@@ -84,7 +88,10 @@ def r_numeric(t: dt.datetime, order: str, data: st.DataObject) -> Written:
     sep = data.draw(st.sampled_from(["/", "-", "."]))
     pad = data.draw(st.booleans())
     two = data.draw(st.booleans()) and 1970 <= t.year <= 2025
-    return Written(_num(t, order, sep, pad, two), CellKind.TEXT, _date_only(t), None)
+    place = "last" if two else None
+    return Written(
+        _num(t, order, sep, pad, two), CellKind.TEXT, _date_only(t), None, None, 0, place
+    )
 
 
 def r_ymd_slash(t: dt.datetime, order: str, data: st.DataObject) -> Written:
@@ -210,7 +217,12 @@ def engine_written(t: dt.datetime, order: str, data: st.DataObject) -> Written:
     wall = t.replace(**keep)
     if pid == "rfc5322" and offset is None:
         offset = 0  # render writes GMT
-    return Written(text, CellKind.TEXT, wall, offset)
+    place = None
+    if pid.startswith("yymd"):
+        place = "first"
+    elif two and pid.startswith("num-"):
+        place = "last"
+    return Written(text, CellKind.TEXT, wall, offset, None, 0, place)
 
 
 def decisive(order: str) -> Written:
@@ -250,6 +262,9 @@ def check_column(
     if numeric is None and len(fam) > 1:  # keep at most one number family in a column
         keep = sorted(fam)[0]
         cells = [o for o in cells if o.numeric in (None, keep)]
+    places = {o.year_place for o in cells if o.year_place}
+    place = target.year_place or (sorted(places)[0] if places else None)
+    cells = [o for o in cells if o.year_place in (None, place)]  # one two-digit-year place
     if decide:
         cells.append(decisive(order))
     pos = pos % (len(cells) + 1)

@@ -624,14 +624,23 @@ def parse_column(
         if res is None or len(res.state) != len(uniques):
             res = parse_texts(uniques, spec)
             _apply_zone(res, spec)
-        if len(rows) == n:
-            rows = slice(None)
-        value[rows] = res.value[codes]
-        offset[rows] = res.offset[codes]
-        has_time[rows] = res.has_time[codes]
-        state[rows] = res.state[codes]
-        pat[rows] = res.pattern[codes]
-        reason[rows] = res.reason[codes]
+        if len(rows) == n:  # every cell is text: gather straight into new arrays
+            value = res.value.astype(value.dtype, copy=False)[codes]
+            offset = res.offset.astype(offset.dtype, copy=False)[codes]
+            has_time = res.has_time.astype(bool, copy=False)[codes]
+            state = res.state.astype(state.dtype, copy=False)[codes]
+            pat = res.pattern.astype(pat.dtype, copy=False)[codes]
+        else:
+            value[rows] = res.value[codes]
+            offset[rows] = res.offset[codes]
+            has_time[rows] = res.has_time[codes]
+            state[rows] = res.state[codes]
+            pat[rows] = res.pattern[codes]
+        # reasons are Python objects: copy only those there are (most cells read have none)
+        said = np.not_equal(res.reason, None)
+        if said.any():
+            hit = said[codes]
+            reason[rows[hit]] = res.reason[codes[hit]]
     dated = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
     if dated.any():
         if DATE_CELL not in patterns:

@@ -194,3 +194,26 @@ def test_find_matches_distinct_values_back_to_every_row(qtbot):
     assert m.rows.tolist() == list(range(3, n, 4))
     m.set_filter(RowFilter(find="/10/"))
     assert m.rowCount() == n // 4
+
+
+def test_a_cell_of_only_spaces_is_shown_apart_from_an_empty_one(tmp_path):
+    from PySide6.QtCore import Qt
+
+    from datemend.core.readers import read_table
+    from datemend.gui.cells_model import SPACE_MARK
+
+    path = tmp_path / "club.csv"
+    path.write_text("id,joined\n1,   \n2,\n3,\t\n4,2024-01-05\n", encoding="utf-8")
+    raw = read_table(path)
+    col = raw.column("joined")
+    m = CellsModel()
+    m.set_source(CellsSource(col, None, raw.source_rows))
+    got = texts(m, Column.RAW)
+    # by hand: three spaces, an empty field, one tab, a date
+    assert got == [SPACE_MARK * 3, "", SPACE_MARK, "2024-01-05"]
+    c = m.column_of(Column.RAW)
+    tip = m.data(m.index(0, c), Qt.ItemDataRole.ToolTipRole)
+    assert "Only white space (3 characters)" in tip
+    assert m.data(m.index(1, c), Qt.ItemDataRole.ToolTipRole) is None
+    assert m.data(m.index(3, c), Qt.ItemDataRole.ToolTipRole) is None
+    assert not col.materialised  # cells shown one by one

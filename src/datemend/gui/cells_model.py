@@ -150,14 +150,29 @@ def format_value(
     return text
 
 
+#: How a cell holding only white space is shown: one mark per character, so it is told apart
+#: from a truly empty cell (it is still read as blank, and written back as it was).
+SPACE_MARK = "\u2423"  # OPEN BOX, the usual printed sign for a space
+
+
 def _raw_text(value: object, kind: int) -> str:
     if kind == CellKind.EMPTY or value is None:
-        return ""
+        return SPACE_MARK * len(value) if isinstance(value, str) else ""
     if isinstance(value, float) and value.is_integer():
         return str(int(value))
     if hasattr(value, "isoformat"):
         return value.isoformat()  # type: ignore[no-any-return]
     return str(value)
+
+
+def _space_hint(value: object, kind: int) -> str | None:
+    if kind != CellKind.EMPTY or not isinstance(value, str) or not value:
+        return None
+    n = len(value)
+    return (
+        f"Only white space ({n} character{'s' if n != 1 else ''}): read as blank, "
+        "and written back as it was."
+    )
 
 
 def _distinct_text(raw: RawColumn) -> tuple[np.ndarray, np.ndarray]:
@@ -412,6 +427,8 @@ class CellsModel(QAbstractTableModel):
             return self._text(col, r, src, p)
         if role == _USER:
             return r
+        if role == _TOOLTIP and col is Column.RAW:
+            return _space_hint(src.raw.value(r), int(src.raw.kinds[r]))
         if p is None:
             return None
         if role == _FOREGROUND:

@@ -31,6 +31,9 @@ EXIT_INTERNAL = 70
 EXIT_CANCELLED = 130
 
 
+_HEADER_HELP = "1-based header row (default: the first row filled like the table)"
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="datemend",
@@ -49,7 +52,7 @@ def build_parser() -> argparse.ArgumentParser:
     s = sub.add_parser("scan", help="report, per column, how its values read as dates")
     s.add_argument("file", help="a CSV, TSV, XLSX, XLSM or ODS file")
     s.add_argument("--sheet", help="sheet name (workbooks; default: the first visible sheet)")
-    s.add_argument("--header-row", type=int, help="1-based header row (default: first non-empty)")
+    s.add_argument("--header-row", type=int, help=_HEADER_HELP)
     s.add_argument("--json", action="store_true", help="print the reports as JSON")
     s.add_argument("--all", action="store_true", help="also list columns that are not dates")
     _order_flags(s)
@@ -59,7 +62,7 @@ def build_parser() -> argparse.ArgumentParser:
     a.add_argument("file", help="a CSV, TSV, XLSX, XLSM, ODS or Parquet file")
     a.add_argument("-o", "--output", required=True, help="OUT.csv, OUT.xlsx or OUT.parquet")
     a.add_argument("--sheet", help="sheet name (workbooks; default: the first visible sheet)")
-    a.add_argument("--header-row", type=int, help="1-based header row (default: first non-empty)")
+    a.add_argument("--header-row", type=int, help=_HEADER_HELP)
     a.add_argument("--log-out", help="also save the fix log of the accepted fixes (JSON)")
     a.add_argument("--overwrite", action="store_true", help="replace OUT if it exists")
     a.add_argument("--reference-year", type=int, help="year two-digit years must not pass")
@@ -71,7 +74,7 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("file", help="the new file; with --engine dask, files or a glob ('data/*.csv')")
     r.add_argument("-o", "--output", required=True, help="OUT file (with --engine dask: a folder)")
     r.add_argument("--sheet", help="sheet name (workbooks; default: the log's sheet, else first)")
-    r.add_argument("--header-row", type=int, help="1-based header row (default: first non-empty)")
+    r.add_argument("--header-row", type=int, help=_HEADER_HELP)
     r.add_argument("--strict", action="store_true", help="write nothing if anything drifted")
     r.add_argument("--report", help="also save the drift report as JSON")
     r.add_argument("--overwrite", action="store_true", help="replace OUT if it exists")

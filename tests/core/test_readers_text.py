@@ -127,11 +127,16 @@ def test_ragged_rows_padded_with_empty(tmp_path):
     assert t.source_rows.tolist() == [2, 3, 4]
 
 
-def test_header_first_non_empty_row_and_override(tmp_path):
+def test_header_skips_a_title_row_and_can_be_chosen(tmp_path):
     p = _write(tmp_path, "h.csv", b"\n\nExport of 2026-10,,\nNo,Name,Born\n1,Ada,x\n")
     t = read_table(p)
-    assert t.facts.header_row == 3
-    assert t.names[0] == "Export of 2026-10"
+    # by hand: line 3 fills 1 of 3 cells (a title), line 4 fills all 3: the header
+    assert t.facts.header_row == 4
+    assert t.names == ["No", "Name", "Born"]
+    assert any("like a title" in n for n in t.facts.notes)
+    t1 = read_table(p, header_row=3)  # a chosen header row is taken as it is
+    assert t1.names[0] == "Export of 2026-10"
+    assert t1.facts.header_row == 3
     t2 = read_table(p, header_row=4)
     assert t2.names == ["No", "Name", "Born"]
     assert t2.facts.header_row == 4

@@ -66,13 +66,15 @@ def build_table(
         if header_row is not None:
             raise ReadError(f"{where} has no rows, so header row {header_row} does not exist.")
         raise ReadError(f"{where} has no cells to read.", facts.path)
-    filled = np.zeros(n_rows, dtype=bool)
+    count = np.zeros(n_rows, dtype=np.int32)  # non-empty cells in each row
     for k in kinds:
-        filled |= k != CellKind.EMPTY
+        count += k != CellKind.EMPTY
+    filled = count > 0
+    title = None
     if header_row is None:
         if not filled.any():
             raise ReadError(f"{where} has no cells to read (every cell is empty).", facts.path)
-        h = int(np.argmax(filled))
+        h, title = _header_at(count)
     else:
         if header_row < 1:
             raise ReadError(f"Header row {header_row} for {where} must be 1 or more.", facts.path)
@@ -124,7 +126,15 @@ def build_table(
     if dropped:
         notes.append(f"{dropped} empty column(s) with no header were left out.")
     if h > 0 and int(filled[:h].sum()) > 0:  # wording matched by export._rows_above_note
-        notes.append(f"{int(filled[:h].sum())} non-empty row(s) above the header row were skipped.")
+        why = ""
+        if title is not None:
+            why = (
+                f" (they fill at most {title} cell(s) each, like a title; the header row is the "
+                "first row filled like the table — choose another header row if it is not)"
+            )
+        notes.append(
+            f"{int(filled[:h].sum())} non-empty row(s) above the header row were skipped{why}."
+        )
     cols = tuple(
         # views into the reader's grid: no copy; nothing writes to a RawTable after this
         RawColumn(name, values[j][data], kinds[j][data])
@@ -135,6 +145,31 @@ def build_table(
         facts, header_row=header_at, notes=tuple(facts.notes) + tuple(notes), column_at=at
     )
     return RawTable(cols, facts, np.asarray(row_numbers[data], dtype=np.int64).copy())
+
+
+#: How many non-empty rows at the top are looked at to find the header (common practice, no
+#: source: titles and notes above a table are a line or a few).
+_HEAD_ROWS = 20
+
+
+def _header_at(count: np.ndarray) -> tuple[int, int | None]:
+    """(index of the header row, the most cells a skipped title row fills, or None).
+
+    The header is the first non-empty row that fills at least half as many cells as the widest
+    of the first rows (and two or more): a title or note line above the table ("Club export,
+    October"), which fills one cell or few, is skipped. With one-column data the first
+    non-empty row is the header."""
+    rows = np.flatnonzero(count > 0)
+    first = int(rows[0])
+    head = rows[:_HEAD_ROWS]
+    widest = int(count[head].max())
+    if widest < 2:
+        return first, None
+    need = max(2, -(-widest // 2))
+    h = int(head[np.argmax(count[head] >= need)])
+    if h == first:
+        return first, None
+    return h, int(count[first:h].max())
 
 
 def _unique(names: Sequence[str]) -> list[str]:

@@ -124,8 +124,9 @@ def read_table(
     """Read one table (one sheet of a workbook) with every cell's original value and kind.
 
     ``sheet`` picks a workbook sheet (default: the first visible worksheet); ``header_row`` is
-    the 1-based row holding the column names (default: the first row filled like the table, so a title line above it is skipped). Raises
-    ``ReadError`` (one sentence naming the file) for anything that cannot be read.
+    the 1-based row holding the column names (default: the first row filled like the table, so
+    a title line above it is skipped). Raises ``ReadError`` (one sentence naming the file) for
+    anything that cannot be read.
     """
     p = Path(path)
     name = p.name or str(p)

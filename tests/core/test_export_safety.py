@@ -237,6 +237,13 @@ def test_killed_process_leaves_target_as_it_was(book, tmp_path):
     assert sha256(src) == before
     left = _leftovers(tmp_path, {"club.xlsx", "out.xlsx", "ready"})
     assert all(name.startswith(".out.") and name.endswith(".part") for name in left)
+    # the next export of the same target removes the killed one's leftover once it is old
+    # (an hour: an export still running elsewhere is never that old), and says so
+    for name in left:
+        os.utime(tmp_path / name, (0, 0))
+    res = export_table(clean_table(src), target, overwrite=True)
+    assert _leftovers(tmp_path, {"club.xlsx", "out.xlsx", "ready"}) == []
+    assert any("stopped before it finished" in n for n in res.notes), res.notes
 
 
 # --------------------------------------------------------------------------- formula-like text
@@ -417,3 +424,26 @@ def test_text_xml_cannot_hold_is_replaced_workbook(book, tmp_path):
     wb = openpyxl.load_workbook(out)
     assert [c.value for c in wb["Fix log"]["B"][1:]] == [b[1] for b in BAD_TEXT]
     assert any("control characters" in n for n in result.notes)
+
+
+def test_only_old_leftovers_of_the_same_target_are_swept(tmp_path):
+    import time
+
+    from datemend.core.export import LEFTOVER_AGE_S, sweep_leftovers
+
+    target = tmp_path / "out.csv"
+    names = {
+        ".out.abcd1234.part": True,  # ours, for this target, old
+        ".out.zz_9zz9z.part": False,  # ours, but recent: maybe still being written
+        ".other.abcd1234.part": True,  # another target's
+        ".out.final.part": True,  # not a name atomic_write makes (a user's file)
+        "out.abcd1234.part": True,  # not hidden: not ours
+    }
+    now = time.time()
+    for name, old in names.items():
+        (tmp_path / name).write_text("x")
+        age = LEFTOVER_AGE_S + 10 if old else 5
+        os.utime(tmp_path / name, (now - age, now - age))
+    assert sweep_leftovers(target, now=now) == 1
+    left = sorted(p.name for p in tmp_path.iterdir())
+    assert left == sorted(n for n in names if n != ".out.abcd1234.part")

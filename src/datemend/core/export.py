@@ -33,6 +33,7 @@ import tempfile
 import zoneinfo
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from glob import escape as glob_escape
 from pathlib import Path
 from typing import TypeVar
 
@@ -350,7 +351,13 @@ def export_table(
         def write(tmp: Path) -> tuple[int, int, int, int, list[str]]:
             return export_flat.write_parquet(clean, tmp, options, progress)
 
+    swept = sweep_leftovers(target)
     rows, cols, dates, unresolved, notes = atomic_write(target, write)
+    if swept:
+        notes.append(
+            f"Removed {swept} temporary file(s) left beside {target.name} by an export that "
+            "was stopped before it finished."
+        )
     if writer == "workbook" and facts.format == "xlsm" and not keep_vba:
         notes.append("Macros were not copied: an XLSX file cannot hold them (use .xlsm).")
     if writer != "workbook":
@@ -399,6 +406,40 @@ def atomic_write(target: Path, write: Callable[[Path], _T]) -> _T:
         _remove(tmp)
         raise
     return result
+
+
+#: How old a temporary file of ours must be before a later export of the same target removes
+#: it: an export still running elsewhere is never that old (common practice, no source).
+LEFTOVER_AGE_S = 3600
+_LEFTOVER = re.compile(r"\.(?P<stem>.+)\.[a-z0-9_]{8}\.part")
+
+
+def sweep_leftovers(target: Path, *, now: float | None = None) -> int:
+    """Remove temporary files ``atomic_write`` made for ``target`` and could not remove itself
+    (the process was killed mid-export), when over an hour old; how many were removed."""
+    import time
+
+    now = time.time() if now is None else now
+    gone = 0
+    try:
+        candidates = list(target.parent.glob(f".{glob_escape(target.stem)}.*.part"))
+    except OSError:
+        return 0
+    for path in candidates:
+        m = _LEFTOVER.fullmatch(path.name)
+        if m is None or m.group("stem") != target.stem:
+            continue
+        try:
+            if (
+                path.is_file()
+                and not path.is_symlink()
+                and now - path.stat().st_mtime > LEFTOVER_AGE_S
+            ):
+                path.unlink()
+                gone += 1
+        except OSError:
+            continue
+    return gone
 
 
 def _remove(tmp: Path) -> None:

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import dataclasses
+
 from PySide6.QtCore import Qt
 
 from datemend.core.report import ColumnReport, Suggestion
@@ -51,6 +53,20 @@ def test_one_click_uses_the_reading_with_the_choices_laid_over(qtbot):
     assert label == "D/M/YYYY 100%"
     assert (spec.day_order, spec.century, spec.pivot_year) == ("dmy", "past", 2026)
     assert spec.patterns == SPEC.patterns
+
+
+def test_two_digit_years_can_be_left_open_where_the_rules_differ(qtbot):
+    from datemend.core.steps import ReadDates
+
+    panel = ReadingsPanel()
+    qtbot.addWidget(panel)
+    panel.set_report(REPORT)
+    panel.century.setCurrentIndex(panel.century.findData("either"))
+    panel.pivot.setValue(2020)
+    spec = panel.spec_for(REPORT.suggestions[0])
+    assert (spec.century, spec.pivot_year) == ("either", 2020)
+    said = ReadDates("Joined", dataclasses.replace(spec, patterns=("num-slash",))).describe()
+    assert "two-digit years left unclear where the POSIX rule and not-after-2020 differ" in said
 
 
 def test_blank_offer_lists_only_tokens_not_yet_blank(qtbot):

@@ -247,6 +247,11 @@ def _spec_words(spec: ParseSpec) -> str:
         words.append("month before day")
     if spec.century == "past":
         words.append(f"two-digit years not after {spec.pivot_year}")
+    elif spec.century == "either":
+        words.append(
+            f"two-digit years left unclear where the POSIX rule and not-after-{spec.pivot_year} "
+            "differ"
+        )
     if spec.date_system == 1904:
         words.append("1904 date system")
     if spec.zone:

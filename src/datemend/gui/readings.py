@@ -159,6 +159,7 @@ class ReadingsPanel(QWidget):
         self.century.addItem("as the reading says", "keep")
         self.century.addItem("69–99 → 1900s, 00–68 → 2000s (POSIX)", "posix")
         self.century.addItem("never after the year below (past events)", "past")
+        self.century.addItem("leave open where the two rules differ", "either")
         self.pivot = QSpinBox()
         self.pivot.setRange(1000, 9999)
         self.pivot.setValue(2026)
@@ -275,7 +276,7 @@ class ReadingsPanel(QWidget):
             changes["day_order"] = v
         if (v := self.century.currentData()) != "keep":
             changes["century"] = v
-            changes["pivot_year"] = self.pivot.value() if v == "past" else None
+            changes["pivot_year"] = self.pivot.value() if v in ("past", "either") else None
         if (v := self.date_system.currentData()) != "keep":
             changes["date_system"] = v
         zone = self.zone.text().strip()

@@ -15,6 +15,7 @@ from functools import lru_cache
 from typing import ClassVar
 
 import numpy as np
+import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
 
@@ -168,20 +169,44 @@ def _explaining() -> bool:
     return getattr(_LOCAL, "explain", True)
 
 
+#: From this many failing values on, a reason is written once per distinct combination of the
+#: values it names and shared, rather than once per value (same sentences, fewer f-strings).
+_SHARE_FROM = 32
+
+
+def _reasons(idx: np.ndarray, make, by: tuple[np.ndarray, ...] | None) -> np.ndarray:
+    """``make(i)`` for every position in ``idx``. ``by`` lists every array ``make`` reads (by
+    position ``i``); rows that agree on all of them get the same sentence, so it is written
+    once per distinct combination. ``by=None``: no promise, one call per row."""
+    if by is None or len(idx) < _SHARE_FROM:
+        return np.array([make(i) for i in idx], dtype=object)
+    if not by:  # the sentence names no value: the same for every row
+        return np.full(len(idx), make(idx[0]), dtype=object)
+    group = np.zeros(len(idx), dtype=np.int64)
+    for arr in by:
+        codes, uniq = pd.factorize(np.asarray(arr)[idx], sort=False, use_na_sentinel=False)
+        group, _ = pd.factorize(group * max(len(uniq), 1) + codes, sort=False)
+    first = np.full(int(group.max()) + 1, -1, dtype=np.int64)
+    first[group[::-1]] = np.arange(len(idx))[::-1]
+    once = np.array([make(i) for i in idx[first]], dtype=object)
+    return once[group]
+
+
 class _Check:
-    """First failing check wins: ``fail(mask, texts_fn)`` marks the rows not failed yet."""
+    """First failing check wins: ``fail(mask, make, by=...)`` marks the rows not failed yet;
+    ``by`` names every array the reason sentence ``make(i)`` reads (see ``_reasons``)."""
 
     def __init__(self, n: int, live: np.ndarray) -> None:
         self.bad = ~live
         self.reason = np.full(n, None, dtype=object)
         self.explain = _explaining()
 
-    def fail(self, mask: np.ndarray, make) -> None:
+    def fail(self, mask: np.ndarray, make, by: tuple[np.ndarray, ...] | None = None) -> None:
         new = mask & ~self.bad
         if new.any():
             if self.explain:
                 idx = np.flatnonzero(new)
-                self.reason[idx] = np.array([make(i) for i in idx], dtype=object)
+                self.reason[idx] = _reasons(idx, make, by)
             self.bad |= new
 
 
@@ -374,6 +399,7 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
             chk.fail(
                 both_big,
                 lambda i: f"neither {a[i]} nor {b[i]} can be a month",
+                by=(a, b),
             )
             amb = (order == EV_BOTH_SMALL) & (a >= 1) & (b >= 1)
     elif p.kind == "ymd":
@@ -412,14 +438,15 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
     else:  # pragma: no cover - every kind is listed above
         raise ValueError(p.kind)
 
-    chk.fail(y == 0, lambda i: "year 0 does not exist (the calendar goes from 1 BC to AD 1)")
-    chk.fail((m < 1) | (m > 12), lambda i: f"month {m[i]} does not exist")
-    chk.fail(d < 1, lambda i: f"day {d[i]} does not exist")
+    chk.fail(y == 0, lambda i: "year 0 does not exist (the calendar goes from 1 BC to AD 1)", by=())
+    chk.fail((m < 1) | (m > 12), lambda i: f"month {m[i]} does not exist", by=(m,))
+    chk.fail(d < 1, lambda i: f"day {d[i]} does not exist", by=(d,))
     dim = days_in_month(y, m)
     feb29 = (m == 2) & (d == 29)
     chk.fail(
         feb29 & (dim == 28),
         lambda i: f"29 February {y[i]} does not exist ({y[i]} is not a leap year)",
+        by=(y,),
     )
     chk.fail(
         d > dim,
@@ -427,6 +454,7 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
             f"{d[i]} {_MONTHS[m[i] - 1]} {y[i]} does not exist "
             f"({_MONTHS[m[i] - 1]} has {dim[i]} days)"
         ),
+        by=(d, m, y, dim),
     )
     ok_date = ~chk.bad
     days = np.zeros(k, dtype=np.int64)
@@ -436,14 +464,15 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
         mon1 = jan4 - (jan4 + 3) % 7
         jan1_wd = (jan4 - 3 + 3) % 7
         weeks = np.where((jan1_wd == 3) | (is_leap(y) & (jan1_wd == 2)), 53, 52)
-        chk.fail((w < 1) | (w > weeks), lambda i: f"{y[i]} has no week {w[i]}")
-        chk.fail((u < 1) | (u > 7), lambda i: f"weekday {u[i]} does not exist (1–7)")
+        chk.fail((w < 1) | (w > weeks), lambda i: f"{y[i]} has no week {w[i]}", by=(y, w))
+        chk.fail((u < 1) | (u > 7), lambda i: f"weekday {u[i]} does not exist (1–7)", by=(u,))
         days = mon1 + (w - 1) * 7 + (u - 1)
     elif p.kind == "ordinal":
         ylen = 365 + is_leap(y)
         chk.fail(
             (o < 1) | (o > ylen),
             lambda i: f"day {o[i]} of {y[i]} does not exist ({y[i]} has {ylen[i]} days)",
+            by=(o, y, ylen),
         )
         days = days + o - 1
     if p.kind == "num" and spec.day_order is None:
@@ -459,6 +488,7 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
                 f"it says {_WEEKDAYS[wd_given[i]]} but {_date_name(y[i], m[i], d[i])} "
                 f"is a {_WEEKDAYS[actual[i]]}"
             ),
+            by=(wd_given, y, m, d, actual),
         )
     cent = np.zeros(k, dtype=bool)
     if y_posix is not None:
@@ -470,25 +500,26 @@ def _read_fields(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
     reason = chk.reason
     if cent.any() and _explaining():
         ic = np.flatnonzero(cent & amb)
-        reason[ic] = np.array(
-            [
+        reason[ic] = _reasons(
+            ic,
+            lambda i: (
                 f"could be {_date_name(y[i], m[i], d[i])} or "
                 f"{_date_name(y_posix[i], m[i], d[i])}; nothing in the column says which "
                 "century a two-digit year is in"
-                for i in ic
-            ],
-            dtype=object,
+            ),
+            (y, m, d, y_posix),
         )
     if amb.any() and _explaining():
         ia = np.flatnonzero(amb & ~cent)
-        reason[ia] = np.array(
-            [
-                f"could be {_date_name(y[i], b[i], a[i])} (day first) or "
-                f"{_date_name(y[i], a[i], b[i])} (month first); the day order is undecided"
-                for i in ia
-            ],
-            dtype=object,
-        )
+        if len(ia):  # only a "num" reading has a and b (and only it leaves the order open)
+            reason[ia] = _reasons(
+                ia,
+                lambda i: (
+                    f"could be {_date_name(y[i], b[i], a[i])} (day first) or "
+                    f"{_date_name(y[i], a[i], b[i])} (month first); the day order is undecided"
+                ),
+                (y, a, b),
+            )
     return {
         "live": live,
         "ok": ok & live,
@@ -519,26 +550,29 @@ def _read_time(
     is_am = ap == "am"
     is_pm = ap == "pm"
     timed = h >= 0
-    chk.fail(timed & (mi < 0) & ~is_am & ~is_pm, lambda i: f"hour {h[i]} has no minutes")
+    chk.fail(timed & (mi < 0) & ~is_am & ~is_pm, lambda i: f"hour {h[i]} has no minutes", by=(h,))
     twelve = is_am | is_pm
     chk.fail(
         twelve & ((h < 1) | (h > 12)),
         lambda i: f"hour {h[i]} cannot go with {ap[i].upper()} (a 12-hour clock runs 1–12)",
+        by=(h, ap),
     )
     chk.fail(
         timed & ~twelve & (h == 24),
         lambda i: "24:00 (end of day) is not read; write 00:00 of the next day",
+        by=(),
     )
-    chk.fail(timed & (h > 23), lambda i: f"hour {h[i]} does not exist")
-    chk.fail(timed & (mi > 59), lambda i: f"minute {mi[i]} does not exist")
+    chk.fail(timed & (h > 23), lambda i: f"hour {h[i]} does not exist", by=(h,))
+    chk.fail(timed & (mi > 59), lambda i: f"minute {mi[i]} does not exist", by=(mi,))
     chk.fail(
         timed & (s == 60),
         lambda i: (
             f"{h[i]:02d}:{mi[i]:02d}:60 is a leap second, which a datetime value "
             "cannot hold; it is not moved to the next second"
         ),
+        by=(h, mi),
     )
-    chk.fail(timed & (s > 60), lambda i: f"second {s[i]} does not exist")
+    chk.fail(timed & (s > 60), lambda i: f"second {s[i]} does not exist", by=(s,))
     hh = np.where(twelve, h % 12 + np.where(is_pm, 12, 0), h)
     tod = np.where(
         timed,
@@ -551,11 +585,12 @@ def _read_time(
         zoned = zs != ""
         if zoned.any():
             offset, bad = _zone_offsets(zf, zs, k)
-            chk.fail(zoned & bad, lambda i: f'"{zs[i]}" is not a UTC offset')
+            chk.fail(zoned & bad, lambda i: f'"{zs[i]}" is not a UTC offset', by=(zs,))
             named = np.isin(zs, ["z", "utc", "gmt", "ut"])
             chk.fail(
                 zoned & ~timed & ~named,
                 lambda i: f'the offset "{zs[i]}" has no time of day to go with',
+                by=(zs,),
             )
             offset = np.where(timed, offset, NAIVE).astype(np.int32)
     has_time = timed & ((tod != 0) | (offset != NAIVE) | twelve)
@@ -604,7 +639,11 @@ def _read_number(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
         if spec.date_system == 1904:
             base = days_from_civil(np.array([1904]), np.array([1]), np.array([1]))[0]
             days = base + i
-            chk.fail(i > 2957003, lambda j: f"serial {i[j]} is after 9999-12-31 (1904 system)")
+            chk.fail(
+                i > 2957003,
+                lambda j: f"serial {i[j]} is after 9999-12-31 (1904 system)",
+                by=(i,),
+            )
         else:
             b0 = days_from_civil(np.array([1899]), np.array([12]), np.array([31]))[0]
             days = np.where(i < 60, b0 + i, b0 - 1 + i)
@@ -614,6 +653,7 @@ def _read_number(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
                     "serial 0 is day zero of the 1900 date system (shown as 1900-01-00), "
                     "not a real day"
                 ),
+                by=(),
             )
             chk.fail(
                 i == 60,
@@ -621,8 +661,9 @@ def _read_number(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
                     "serial 60 is 29 February 1900, a day that does not exist (the 1900 "
                     "date system counts 1900 as a leap year)"
                 ),
+                by=(),
             )
-            chk.fail(i > 2958465, lambda j: f"serial {i[j]} is after 9999-12-31")
+            chk.fail(i > 2958465, lambda j: f"serial {i[j]} is after 9999-12-31", by=(i,))
         value = days * US_PER_DAY + tod
         has_time = tod != 0
     else:
@@ -639,7 +680,7 @@ def _read_number(p: Pattern, sub: pa.StructArray, k: int, spec: ParseSpec) -> di
             us = i * 1000 + frac_ms
         value = np.where(neg, -us, us)
         lo_us = days_from_civil(np.array([1]), np.array([1]), np.array([1]))[0] * US_PER_DAY
-        chk.fail(value < lo_us, lambda j: "the epoch value is before the year 1")
+        chk.fail(value < lo_us, lambda j: "the epoch value is before the year 1", by=())
         has_time = np.ones(k, dtype=bool)
     ok = ~chk.bad
     year = np.zeros(k, dtype=np.int64)

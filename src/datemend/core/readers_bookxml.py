@@ -156,18 +156,23 @@ MAX_SPARSE_CELLS = 40_000_000
 def refuse_sparse_giant(xml: bytes, where: str, path: str) -> None:
     """Estimate the sheet's used area from its XML (cheap byte searches) before loading it."""
     first = re.search(rb'<(?:\w+:)?row\b[^>]*?\br\s*=\s*"(\d+)"', xml)
-    last_at = max(xml.rfind(b"<row "), xml.rfind(b":row "))
+    last_at = xml.rfind(b"<row ")
+    last_at = max(last_at, xml.rfind(b":row ", max(last_at, 0)))  # a prefixed one after it
     last = re.search(rb'row\b[^>]*?\br\s*=\s*"(\d+)"', xml[last_at:]) if last_at >= 0 else None
     if not first or not last:
         return
     height = int(last.group(1)) - int(first.group(1)) + 1
-    # patterns start with a literal (' r="') so the regex engine can skip ahead fast
-    if re.search(rb' r="[A-Z]{3}', xml):
-        width = 16384
-    elif re.search(rb' r="[A-Z]{2}', xml):
-        width = 702
-    else:
+    if height * 16384 <= MAX_SPARSE_CELLS:  # even the widest sheet (XFD) passes
+        return
+    # Patterns start with a literal (' r="') so the regex engine can skip ahead fast. A
+    # three-letter reference starts with two letters, so a sheet with none of those (most)
+    # is searched once.
+    if not re.search(rb' r="[A-Z]{2}', xml):
         width = 26
+    elif re.search(rb' r="[A-Z]{3}', xml):
+        width = 16384
+    else:
+        width = 702
     if height * width <= MAX_SPARSE_CELLS:
         return
     letters = set(re.findall(rb' r="([A-Z]{1,3})\d', xml))

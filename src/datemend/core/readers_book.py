@@ -14,7 +14,6 @@ from the file's own XML, read as bytes and searched, never parsed cell by cell a
 from __future__ import annotations
 
 import datetime as _dt
-import threading
 import zipfile
 from dataclasses import dataclass
 from pathlib import Path
@@ -198,43 +197,6 @@ def _grid_kinds(rows: list[list[object]]) -> tuple[np.ndarray, np.ndarray, list[
     return flat.reshape(width, height), kinds.reshape(width, height), notes
 
 
-class _Background:
-    """One call run on a thread of its own; ``result()`` waits and returns or raises as the
-    call did."""
-
-    def __init__(self, fn, *args: object) -> None:
-        self._out: tuple[bool, object] | None = None
-        self._thread: threading.Thread | None = None
-        thread = threading.Thread(target=self._run, args=(fn, args), daemon=True)
-        try:
-            thread.start()
-            self._thread = thread
-        except RuntimeError:  # no thread to be had: run it here and now
-            self._run(fn, args)
-
-    def _run(self, fn, args: tuple) -> None:
-        try:
-            self._out = (True, fn(*args))
-        except BaseException as err:  # handed to the caller by result()
-            self._out = (False, err)
-
-    def result(self):
-        if self._thread is not None:
-            self._thread.join()
-        ok, value = self._out if self._out is not None else (False, RuntimeError("no result"))
-        if not ok:
-            raise value
-        return value
-
-
-def _damaged_or(job: _Background, where: str, path: str):
-    """The background search's result, or the ReadError a damaged sheet XML gets."""
-    try:
-        return job.result()
-    except (KeyError, zipfile.BadZipFile, OSError, ValueError, SyntaxError) as err:
-        raise ReadError(f"{where} is damaged ({_short(err)}).", path) from None
-
-
 def read_book_table(
     path: str,
     facts: SourceFacts,
@@ -286,7 +248,6 @@ def read_book_table(
                 notes.append(f'No sheet is visible; the first sheet "{sheet_name}" was read.')
             if progress is not None:
                 progress.report(1, 4, f"Reading {where}")
-            job: _Background | None = None
             try:
                 if is_ods:
                     content = z.read("content.xml")
@@ -299,8 +260,7 @@ def read_book_table(
                     if part is not None and part in members:
                         xml = z.read(part)
                         refuse_sparse_giant(xml, where, path)
-                        # Searched while calamine loads the sheet (it lets go of the GIL).
-                        job = _Background(xlsx_sheet_extras, xml)
+                        errors, extra = xlsx_sheet_extras(xml)
                         del xml
             except (KeyError, zipfile.BadZipFile, OSError, ValueError, SyntaxError) as err:
                 raise ReadError(f"{where} is damaged ({_short(err)}).", path) from None
@@ -312,11 +272,7 @@ def read_book_table(
             except (KeyboardInterrupt, SystemExit):
                 raise
             except BaseException as err:  # calamine errors, or a panic
-                if job is not None:  # a damaged sheet XML is told first, as when read before
-                    _damaged_or(job, where, path)
                 raise ReadError(f"{where} could not be read ({_short(err)}).", path) from None
-            if job is not None:
-                errors, extra = _damaged_or(job, where, path)
         finally:
             book.close()
         if progress is not None:

@@ -1,5 +1,5 @@
-"""The sheet XML of an XLSX is searched on a thread while calamine loads the sheet
-(``readers_book._Background``): results and errors must come out as if searched in line.
+"""What the reader takes from an XLSX's own sheet XML: error cells and hidden rows are found,
+and a sheet XML the search cannot decode is told as damaged in one sentence.
 
 Expected values are written by hand (the error cell text is what the test puts in the file).
 """
@@ -10,7 +10,6 @@ import openpyxl
 import pytest
 
 from datemend.core.readers import read_table
-from datemend.core.readers_book import _Background
 from datemend.core.table import CellKind, ReadError
 
 
@@ -39,30 +38,7 @@ def _patched(path, old: bytes, new: bytes):
     return out
 
 
-# (call, arguments, expected result or exception type, why)
-CALLS = [
-    (sum, ([1, 2, 3],), 6, "a value comes back"),
-    (int, ("x",), ValueError, "an error is raised by result(), as the call raised it"),
-    (dict, (), {}, "a call with no arguments"),
-]
-
-
-def test_no_call_repeats() -> None:
-    keys = [(c.__name__, repr(a)) for c, a, _, _ in CALLS]
-    assert len(set(keys)) == len(keys)
-
-
-@pytest.mark.parametrize(("fn", "args", "expected", "why"), CALLS, ids=[c[3] for c in CALLS])
-def test_background_hands_back_what_the_call_did(fn, args, expected, why) -> None:
-    job = _Background(fn, *args)
-    if isinstance(expected, type) and issubclass(expected, BaseException):
-        with pytest.raises(expected):
-            job.result()
-    else:
-        assert job.result() == expected, why
-
-
-def test_error_cells_and_notes_found_on_the_thread(tmp_path) -> None:
+def test_error_cells_and_hidden_rows_found_in_the_sheet_xml(tmp_path) -> None:
     def setup(ws):
         ws["B3"] = "#N/A"
         ws["B3"].data_type = "e"

@@ -199,6 +199,9 @@ _SENTINELS = np.array(
 )
 
 
+_NAT = np.iinfo(np.int64).min  # NaT as an int64 datetime64 value
+
+
 def _doubt_numbers(out: TextResult, norm: pa.Array, feats: _Features, spec: ParseSpec) -> None:
     """Numbers read outside their pattern's plausible years that another number reading also
     reads become AMBIGUOUS, with both readings in the reason (see ``ParseSpec.plausible``)."""
@@ -218,22 +221,27 @@ def _doubt_numbers(out: TextResult, norm: pa.Array, feats: _Features, spec: Pars
     sub = norm.take(pa.array(idx))
     sub_feats = feats.subset(idx, sub)
     own_iso = iso_text(out.value[idx], out.offset[idx], out.has_time[idx])
-    others: list[tuple[str, Reading]] = []
-    for alt in spec.alternates:
-        r = read_pattern(pattern(alt), sub, spec, sub_feats)
-        others.append((alt, r))
+    # only whether and how each other number reading reads them counts: no reasons
+    others = [
+        (alt, read_pattern(pattern(alt), sub, spec, sub_feats, explain=False))
+        for alt in spec.alternates
+    ]
     serial_hi = next((hi for pid, _, hi in spec.plausible if pid == "serial"), 0)
     years_alone = _year_alone(sub, serial_hi)
-    for j, i in enumerate(idx):  # per doubtful distinct number (few)
+    names = {p: label(p, date_system=spec.date_system) for p in (*spec.patterns, *spec.alternates)}
+    own_value = out.value[idx].astype(np.int64)
+    alt_iso = {
+        alt: iso_text(np.where(r.ok, r.value, _NAT).view("datetime64[us]"), r.offset, r.has_time)
+        for alt, r in others
+    }
+    for j, i in enumerate(idx):  # per doubtful distinct number
         own = spec.patterns[out.pattern[i]]
-        readings = [f"{own_iso[j]} ({label(own, date_system=spec.date_system)})"]
+        readings = [f"{own_iso[j]} ({names[own]})"]
         if own == "serial" and years_alone[j]:
             readings.append(f"the year {years_alone[j]} alone, with no month or day")
         for alt, r in others:
-            if alt != own and r.ok[j] and r.value[j] != out.value[i].astype(np.int64):
-                v = r.value[j : j + 1].view("datetime64[us]")
-                alt_iso = iso_text(v, r.offset[j : j + 1], r.has_time[j : j + 1])[0]
-                readings.append(f"{alt_iso} ({label(alt, date_system=spec.date_system)})")
+            if alt != own and r.ok[j] and r.value[j] != own_value[j]:
+                readings.append(f"{alt_iso[alt][j]} ({names[alt]})")
         if len(readings) > 1:
             out.state[i] = CellState.AMBIGUOUS
             out.reason[i] = (

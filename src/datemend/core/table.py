@@ -96,9 +96,9 @@ class RawColumn:
     A whitespace-only cell ("   ", a tab, a no-break space) is kind EMPTY but keeps its string,
     so exports can write it back exactly. CSV cells are always text (or empty): nothing is coerced.
 
-    A column of text cells only (every CSV column, a text-only Parquet or workbook column) may be
-    held as an Arrow string array instead (``values`` given as a ``pyarrow`` array, empty cells as
-    nulls): about a fifth of the memory of one Python object per cell. Such a column's
+    A column of text cells only may be held as an Arrow string array instead (``values`` given as
+    a ``pyarrow`` array, empty cells as nulls); the CSV reader holds every column so. That takes
+    about a quarter of the memory of one Python object per cell. Such a column's
     ``arrow`` is that array; ``values`` then builds the object array on first use and keeps it,
     so hot paths (parsing, replay, export) use ``arrow``, ``take`` and ``value`` instead.
     A RawColumn never changes once made.

@@ -166,14 +166,15 @@ class DateOut:
     @property
     def local(self) -> np.ndarray:
         """datetime64[us]: the value to write where ``ok`` (NaT elsewhere)."""
-        return self._values()[0]
+        return self.written()[0]
 
     @property
     def offset(self) -> np.ndarray:
         """int32 minutes east of UTC of ``local``, NAIVE where no offset was read."""
-        return self._values()[1]
+        return self.written()[1]
 
-    def _values(self) -> tuple[np.ndarray, np.ndarray]:
+    def written(self) -> tuple[np.ndarray, np.ndarray]:
+        """(``local``, ``offset``) worked out together: a writer needing both asks once."""
         ok = self.ok
         rows = self.rows if self.rows is not None else slice(None)
         value = self.col.value[rows]

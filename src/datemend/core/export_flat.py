@@ -170,12 +170,13 @@ def iso_text(d: DateOut) -> np.ndarray:
     idx = np.flatnonzero(d.ok)
     if not len(idx):
         return out
-    vals = d.local[idx]
+    local, offset = d.written()
+    vals = local[idx]
     if d.date_only:
         out[idx] = np.datetime_as_string(vals.astype("datetime64[D]"), unit="D").astype(object)
         return out
     text = _iso_seconds(vals)
-    offs = d.offset[idx]
+    offs = offset[idx]
     aware = offs != NAIVE
     if aware.any():
         text[aware] = text[aware] + _offset_text(offs[aware])

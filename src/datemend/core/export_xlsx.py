@@ -88,11 +88,12 @@ def _min_date(epoch: _dt.datetime) -> np.datetime64:
     return np.datetime64("1904-01-01" if epoch == CALENDAR_MAC_1904 else "1900-01-01", "us")
 
 
-def _date_objects(d: DateOut) -> np.ndarray:
-    """Python date (date-only columns) or datetime objects; None where there is no value."""
+def _date_objects(d: DateOut, local: np.ndarray) -> np.ndarray:
+    """Python date (date-only columns) or datetime objects of ``d``'s ``local`` values; None
+    where there is no value."""
     if d.date_only:
-        return d.local.astype("datetime64[D]").astype(object)
-    return d.local.astype(object)
+        return local.astype("datetime64[D]").astype(object)
+    return local.astype(object)
 
 
 def _iso(value: object) -> str:
@@ -150,9 +151,10 @@ def write_workbook(
             ws.column_dimensions[get_column_letter(next_col)].width = _width(ws, c, 14)
             next_col += 1
         _check_rows(ws, rc.values, rc.kinds, rows, c, d.ok | d.blank, where, source)
-        values = _date_objects(d)
+        local = d.local
+        values = _date_objects(d, local)
         fmt = options.date_format if d.date_only else options.datetime_format
-        too_early = d.ok & (d.local < earliest)
+        too_early = d.ok & (local < earliest)
         for i in np.flatnonzero(d.ok | d.blank):
             cell = ws.cell(int(rows[i]), c)
             if isinstance(cell, MergedCell):

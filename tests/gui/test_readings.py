@@ -41,12 +41,18 @@ def test_card_shows_coverage_evidence_and_escapes_values():
     assert "&lt;b&gt;9999-12-31&lt;/b&gt;" in text and "<b>9999" not in text
 
 
-def test_one_click_uses_the_reading_with_the_choices_laid_over(qtbot):
+def _panel(qtbot, century: str, pivot: int) -> ReadingsPanel:
+    """The panel on REPORT with a two-digit-year rule and year chosen."""
     panel = ReadingsPanel()
     qtbot.addWidget(panel)
     panel.set_report(REPORT)
-    panel.century.setCurrentIndex(panel.century.findData("past"))
-    panel.pivot.setValue(2026)
+    panel.century.setCurrentIndex(panel.century.findData(century))
+    panel.pivot.setValue(pivot)
+    return panel
+
+
+def test_one_click_uses_the_reading_with_the_choices_laid_over(qtbot):
+    panel = _panel(qtbot, "past", 2026)
     with qtbot.waitSignal(panel.use_requested) as got:
         qtbot.mouseClick(panel.cards[0].use, Qt.MouseButton.LeftButton)
     spec, label = got.args
@@ -58,11 +64,7 @@ def test_one_click_uses_the_reading_with_the_choices_laid_over(qtbot):
 def test_two_digit_years_can_be_left_open_where_the_rules_differ(qtbot):
     from datemend.core.steps import ReadDates
 
-    panel = ReadingsPanel()
-    qtbot.addWidget(panel)
-    panel.set_report(REPORT)
-    panel.century.setCurrentIndex(panel.century.findData("either"))
-    panel.pivot.setValue(2020)
+    panel = _panel(qtbot, "either", 2020)
     spec = panel.spec_for(REPORT.suggestions[0])
     assert (spec.century, spec.pivot_year) == ("either", 2020)
     said = ReadDates("Joined", dataclasses.replace(spec, patterns=("num-slash",))).describe()

@@ -258,13 +258,12 @@ def read_text_table(
     name = Path(path).name
     if _BLANK_BYTES.fullmatch(data):
         raise ReadError(f"{name} is empty: it has no text to read.", path)
+    no_text = f"{name} has no text to read (only blank lines or a byte-order mark)."
     start = _utf8_start(data)
     if start is None:  # another encoding: decode it whole (such files are seldom large)
         text, enc, _bom, note = decode_text(data, name)
         if not text.strip("\r\n\t \ufeff"):
-            raise ReadError(
-                f"{name} has no text to read (only blank lines or a byte-order mark).", path
-            )
+            raise ReadError(no_text, path)
         sample = _sample(text)
         has_nul = "\x00" in text
         multiline = "\r" in text or ("\n" in text and '"' in text)
@@ -275,9 +274,7 @@ def read_text_table(
         text, note = None, None
         enc = "utf-8-sig" if start else "utf-8"
         if _BLANK_TEXT.fullmatch(data, start):
-            raise ReadError(
-                f"{name} has no text to read (only blank lines or a byte-order mark).", path
-            )
+            raise ReadError(no_text, path)
         head = data[start : start + 4 * _SAMPLE_CHARS + 4].decode("utf-8", "ignore")
         sample = _sample(head)
         has_nul = data.find(b"\x00", start) >= 0

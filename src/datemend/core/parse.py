@@ -515,6 +515,11 @@ def iso_text(value: np.ndarray, offset: np.ndarray, has_time: np.ndarray) -> np.
     return out
 
 
+def _numbers_text(values: np.ndarray) -> np.ndarray:
+    """Distinct number cells (or other non-text values) as text, one Python call each."""
+    return np.array([_num_text(v) for v in values], dtype=object)
+
+
 def _num_text(v: object) -> str:
     if isinstance(v, float):
         return str(int(v)) if v.is_integer() else repr(v)
@@ -559,7 +564,7 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
             codes, nums = pd.factorize(column.values[at])
             code_at = code_at.astype(np.int64)  # a writable copy (Arrow's codes are not)
             code_at[at] = codes + len(uniques)
-            texts = np.array([_num_text(u) for u in nums], dtype=object)
+            texts = _numbers_text(nums)
             uniques = np.concatenate([uniques, texts])
         out = (rows, code_at[rows], uniques)
     if len(column) < 2**31:  # kept for the column's life: half the memory of int64
@@ -593,7 +598,7 @@ def _encode_objects(values: np.ndarray, skip: np.ndarray) -> tuple[np.ndarray, n
     at = np.flatnonzero(~skip)
     codes, uniques = pd.factorize(values[at])
     if pd.api.types.infer_dtype(uniques, skipna=False) != "string":
-        uniques = np.array([_num_text(u) for u in uniques], dtype=object)
+        uniques = _numbers_text(uniques)
     code_at = np.full(len(values), -1, dtype=np.int64)
     code_at[at] = codes
     return code_at, np.asarray(uniques, dtype=object)

@@ -126,3 +126,18 @@ def test_epoch_digit_counts_keep_numbers_apart() -> None:
         ("PARSED", "2009-02-13T23:31:30+00:00"),
         ("PARSED", "2009-02-13T23:31:30.123000+00:00"),
     ]
+
+
+def test_whole_numbers_are_written_as_python_writes_them():
+    # reference: Python's own str() of an int; Arrow writes them for an ID column in one pass
+    import numpy as _np
+
+    from datemend.core.parse import _numbers_text
+
+    ints = [0, 7, -5, 100001, 2**62, -(2**63)]
+    assert _numbers_text(_np.array(ints, dtype=object)).tolist() == [str(v) for v in ints]
+    big = [1, 2**70]  # past 64 bits: still exact
+    assert _numbers_text(_np.array(big, dtype=object)).tolist() == [str(v) for v in big]
+    mixed = [3, 2.5, 1e16]  # floats keep Python's shortest repr, whole ones as integers
+    want = ["3", "2.5", "10000000000000000"]
+    assert _numbers_text(_np.array(mixed, dtype=object)).tolist() == want

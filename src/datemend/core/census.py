@@ -354,7 +354,8 @@ def parse_sample(c: Census, spec: ParseSpec) -> TextResult:
     res = c.parsed_cache.get(spec)
     if res is None:
         texts = c.arrow if c.arrow is not None else c.texts
-        res = parse_texts(texts, spec, norm=c.norm, feats=c.feats)
+        # reasons are written only for the values a report shows (or a parse asks for)
+        res = parse_texts(texts, spec, norm=c.norm, feats=c.feats, explain=False)
         _apply_zone(res, spec)
         c.parsed_cache[spec] = res
     return res

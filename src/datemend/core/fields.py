@@ -289,13 +289,14 @@ def read_pattern(
     spec: ParseSpec,
     feats: dict[str, np.ndarray] | None = None,
     *,
-    explain: bool = True,
+    explain: bool | None = None,
 ) -> Reading:
     """Read ``texts`` (normalised, see ``parse.normalise``) with pattern ``p`` under ``spec``.
     ``feats`` (from ``features(texts)``) lets the regex skip texts that cannot match; without
-    ``explain`` no reason sentences are written (the scan's census needs only the counts)."""
+    ``explain`` no reason sentences are written (the scan's census needs only the counts);
+    None: as the caller's (``parse.parse_texts`` says whether it writes reasons)."""
     before = _explaining()
-    _LOCAL.explain = explain
+    _LOCAL.explain = before if explain is None else explain
     try:
         return _read(p, texts, spec, feats)
     finally:

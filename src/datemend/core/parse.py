@@ -32,6 +32,7 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
 
+from . import fields as _fields
 from .clean import NAIVE, CellState, ParsedColumn
 from .fields import EV_DMY, EV_MDY, Reading, _Features, features, read_pattern
 from .names import ORDINAL_SUFFIX_RE
@@ -99,18 +100,56 @@ def _normalise_messy(t: pa.Array) -> pa.Array:
 
 @dataclass
 class TextResult:
-    """Per distinct text: the parse result (arrays of equal length)."""
+    """Per distinct text: the parse result (arrays of equal length).
+
+    A result parsed without reasons (``parse_texts(..., explain=False)``, as the scan does)
+    writes its reason sentences when they are first asked for: ``reason_of(rows)`` for a few
+    rows, ``reason`` for all. They are the sentences a parse with reasons gives (parsing is
+    per text, so those texts are parsed again, with reasons); tests/core/test_lazy_reasons.py
+    checks that."""
 
     value: np.ndarray  # datetime64[us]
     offset: np.ndarray
     has_time: np.ndarray
     state: np.ndarray
     pattern: np.ndarray
-    reason: np.ndarray
+    _reason: np.ndarray
     timed: np.ndarray  # a time of day was written, even a stray 00:00:00
     order: np.ndarray  # evidence of day/month order (fields.EV_*), for the scan
     two_digit: np.ndarray
     year: np.ndarray
+    #: (raw texts, spec) to write missing reasons from; None once every reason is written
+    _unsaid: tuple[pa.Array, ParseSpec] | None = None
+    _known: np.ndarray | None = None  # rows whose reason is written (when ``_unsaid``)
+    _zoned: bool = False  # whether ``_apply_zone`` ran on this result
+
+    @property
+    def reason(self) -> np.ndarray:
+        """Why each text is not PARSED (None where it is), every sentence written."""
+        if self._unsaid is not None:
+            self.reason_of(np.arange(len(self.state)))
+            self._unsaid = self._known = None
+        return self._reason
+
+    @reason.setter
+    def reason(self, value: np.ndarray) -> None:
+        self._reason = value
+
+    def reason_of(self, rows: np.ndarray) -> np.ndarray:
+        """The reasons of some rows only, written for those rows if not yet."""
+        rows = np.asarray(rows, dtype=np.int64)
+        if self._unsaid is not None and len(rows):
+            if self._known is None:
+                self._known = (self.state == CellState.PARSED) | np.not_equal(self._reason, None)
+            todo = np.unique(rows[~self._known[rows]])
+            if len(todo):
+                raw, spec = self._unsaid
+                again = parse_texts(raw.take(pa.array(todo)), spec)
+                if self._zoned:
+                    _apply_zone(again, spec)
+                self._reason[todo] = again.reason
+                self._known[todo] = True
+        return self._reason[rows]
 
 
 def _empty_result(n: int) -> TextResult:
@@ -120,7 +159,7 @@ def _empty_result(n: int) -> TextResult:
         has_time=np.zeros(n, dtype=bool),
         state=np.full(n, CellState.FAILED, dtype=np.int8),
         pattern=np.full(n, -1, dtype=np.int16),
-        reason=np.full(n, None, dtype=object),
+        _reason=np.full(n, None, dtype=object),
         timed=np.zeros(n, dtype=bool),
         order=np.zeros(n, dtype=np.int8),
         two_digit=np.zeros(n, dtype=bool),
@@ -142,9 +181,28 @@ def parse_texts(
     *,
     norm: pa.Array | None = None,
     feats: dict[str, np.ndarray] | None = None,
+    explain: bool = True,
 ) -> TextResult:
     """Parse texts (a sequence, numpy array or Arrow array of str) with ``spec``. ``norm`` and
-    ``feats`` (from ``normalise`` and ``fields.features``) may be passed when already known."""
+    ``feats`` (from ``normalise`` and ``fields.features``) may be passed when already known.
+    Without ``explain`` the reasons are written only when asked for (see ``TextResult``)."""
+    before = _fields._explaining()
+    _fields._LOCAL.explain = explain
+    try:
+        out = _parse_texts(texts, spec, norm, feats)
+    finally:
+        _fields._LOCAL.explain = before
+    if not explain:
+        out._unsaid = (_as_array(texts), spec)
+    return out
+
+
+def _parse_texts(
+    texts: object,
+    spec: ParseSpec,
+    norm: pa.Array | None,
+    feats: dict[str, np.ndarray] | None,
+) -> TextResult:
     raw = _as_array(texts)
     n = len(raw)
     out = _empty_result(n)
@@ -220,7 +278,6 @@ def _doubt_numbers(out: TextResult, norm: pa.Array, feats: _Features, spec: Pars
     idx = np.flatnonzero(doubt)
     sub = norm.take(pa.array(idx))
     sub_feats = feats.subset(idx, sub)
-    own_iso = iso_text(out.value[idx], out.offset[idx], out.has_time[idx])
     # only whether and how each other number reading reads them counts: no reasons
     others = [
         (alt, read_pattern(pattern(alt), sub, spec, sub_feats, explain=False))
@@ -228,28 +285,46 @@ def _doubt_numbers(out: TextResult, norm: pa.Array, feats: _Features, spec: Pars
     ]
     serial_hi = next((hi for pid, _, hi in spec.plausible if pid == "serial"), 0)
     years_alone = _year_alone(sub, serial_hi)
-    names = {p: label(p, date_system=spec.date_system) for p in (*spec.patterns, *spec.alternates)}
+    own_pid = np.array(spec.patterns, dtype=object)[out.pattern[idx]]
     own_value = out.value[idx].astype(np.int64)
+    own_has_time = out.has_time[idx].copy()
+    # another reading: the year alone (for a serial), or another number reading's other date
+    more = (own_pid == "serial") & np.array([y is not None for y in years_alone], dtype=bool)
+    for alt, r in others:
+        more |= (own_pid != alt) & r.ok & (r.value != own_value)
+    if not more.any():
+        return
+    amb = idx[more]
+    out.state[amb] = CellState.AMBIGUOUS
+    out.value[amb] = np.datetime64("NaT")
+    out.has_time[amb] = False
+    if not _fields._explaining():  # the sentences are written when asked for
+        return
+    names = {p: label(p, date_system=spec.date_system) for p in (*spec.patterns, *spec.alternates)}
+    at = np.flatnonzero(more)
+    own_iso = iso_text(own_value[at].view("datetime64[us]"), out.offset[amb], own_has_time[at])
     alt_iso = {
-        alt: iso_text(np.where(r.ok, r.value, _NAT).view("datetime64[us]"), r.offset, r.has_time)
+        alt: iso_text(
+            np.where(r.ok[at], r.value[at], _NAT).view("datetime64[us]"),
+            r.offset[at],
+            r.has_time[at],
+        )
         for alt, r in others
     }
-    for j, i in enumerate(idx):  # per doubtful distinct number
-        own = spec.patterns[out.pattern[i]]
-        readings = [f"{own_iso[j]} ({names[own]})"]
+    reasons = []
+    for n, j in enumerate(at):  # per ambiguous distinct number: its sentence
+        own = own_pid[j]
+        readings = [f"{own_iso[n]} ({names[own]})"]
         if own == "serial" and years_alone[j]:
             readings.append(f"the year {years_alone[j]} alone, with no month or day")
         for alt, r in others:
             if alt != own and r.ok[j] and r.value[j] != own_value[j]:
-                readings.append(f"{alt_iso[alt][j]} ({names[alt]})")
-        if len(readings) > 1:
-            out.state[i] = CellState.AMBIGUOUS
-            out.reason[i] = (
-                "could be " + " or ".join(readings) + "; the first is outside the years "
-                "this column's numbers otherwise give"
-            )
-            out.value[i] = np.datetime64("NaT")
-            out.has_time[i] = False
+                readings.append(f"{alt_iso[alt][n]} ({names[alt]})")
+        reasons.append(
+            "could be " + " or ".join(readings) + "; the first is outside the years "
+            "this column's numbers otherwise give"
+        )
+    out.reason[amb] = np.array(reasons, dtype=object)
 
 
 def _year_alone(texts: pa.Array, last: int) -> list[str | None]:
@@ -301,7 +376,8 @@ def _read_rivals(
     conflict = np.zeros(n, bool)
     for _, _, r in reads:
         conflict |= r.ok & comb.ok & ((r.value != comb.value) | (r.offset != comb.offset))
-    if conflict.any():
+    explain = _fields._explaining()
+    if conflict.any() and explain:
         idx = np.flatnonzero(conflict)
         texts_by = []
         for _, pid, r in reads:
@@ -324,7 +400,7 @@ def _read_rivals(
         own[ia] = True
     if own.any():
         for _, pid, r in reads:
-            io = np.flatnonzero(own & r.ok)
+            io = np.flatnonzero(own & r.ok) if explain else ()
             if len(io):
                 iso = iso_text(r.value[io].view("datetime64[us]"), r.offset[io], r.has_time[io])
                 lab = label(pid, date_system=spec.date_system)
@@ -452,6 +528,7 @@ def _apply_zone(res: TextResult, spec: ParseSpec) -> None:
     """Move aware values (and naive ones, when ``naive_zone`` is set) to ``spec.zone``."""
     if not spec.zone:
         return
+    res._zoned = True
     parsed = res.state == CellState.PARSED
     aware = parsed & (res.offset != NAIVE)
     utc = res.value.copy()
@@ -469,7 +546,7 @@ def _apply_zone(res: TextResult, spec: ParseSpec) -> None:
             utc[idx] = as_utc
             bad = idx[lost]
             res.state[bad] = CellState.FAILED
-            res.reason[bad] = (
+            res._reason[bad] = (
                 f"this wall-clock time is skipped or repeated by a clock change in "
                 f"{spec.naive_zone}, so its instant is not known"
             )
@@ -516,7 +593,15 @@ def iso_text(value: np.ndarray, offset: np.ndarray, has_time: np.ndarray) -> np.
 
 
 def _numbers_text(values: np.ndarray) -> np.ndarray:
-    """Distinct number cells (or other non-text values) as text, one Python call each."""
+    """Distinct number cells (or other non-text values) as text. Whole numbers only (an ID
+    column) are written by Arrow in one pass; anything else takes one Python call each."""
+    if len(values) and pd.api.types.infer_dtype(values, skipna=False) == "integer":
+        try:
+            ints = np.asarray(values, dtype=np.int64)
+        except OverflowError:  # beyond 64 bits: Python writes it
+            ints = None
+        if ints is not None:
+            return pc.cast(pa.array(ints), pa.string()).to_numpy(zero_copy_only=False)
     return np.array([_num_text(v) for v in values], dtype=object)
 
 

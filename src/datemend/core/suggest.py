@@ -73,9 +73,10 @@ def build_suggestion(
     bad = np.flatnonzero((res.state == CellState.FAILED) | (res.state == CellState.AMBIGUOUS))
     bad = bad[np.argsort(c.rows[bad], kind="stable")][:20]
     start = c.facts.header_row + 1
+    said = res.reason_of(bad)
     failures = tuple(
-        CellNote(int(c.rows[j]), int(c.rows[j]) + start, str(c.texts[j]), str(res.reason[j]))
-        for j in bad
+        CellNote(int(c.rows[j]), int(c.rows[j]) + start, str(c.texts[j]), str(why))
+        for j, why in zip(bad, said, strict=True)
     )
     ev = list(evidence)
     if c.sample_note:

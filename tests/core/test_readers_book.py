@@ -223,6 +223,75 @@ def test_cell_kinds_agrees_with_kinds_of():
     assert kinds.tolist() == ref.tolist()
 
 
+def _cells(values) -> list:
+    """A column's cells as Python objects, whether held as objects or as Arrow strings."""
+    if hasattr(values, "to_pylist"):
+        return values.to_pylist()
+    return list(values)
+
+
+# Columns as calamine hands them over (an empty cell is ""), each with a header row and more
+# rows than the typed top rows, so the per-column passes run on the body.
+_BODY = 80
+GRID_COLUMNS = [
+    (["Name", *[f"n{i}" for i in range(_BODY)]], "text only: held as Arrow strings"),
+    (["Notes", *(["", "  ", "x", "\u00a0"] * (_BODY // 4))], "text with blanks and whitespace"),
+    (["No", *[float(100000 + i) for i in range(_BODY)]], "whole numbers: INT"),
+    (["Fee", *[i + 0.25 for i in range(_BODY - 1)], float("nan")], "fractions and a NaN"),
+    (["Born", *[dt.date(1990, 1, 1 + i % 28) for i in range(_BODY)]], "dates only"),
+    (["At", *[dt.datetime(2026, 1, 1, i % 24) for i in range(_BODY)]], "date-times only"),
+    (["Mixed", *([dt.date(2020, 1, 2), "soon", "", 3.0] * (_BODY // 4))], "mixed kinds"),
+    (["Both", *([dt.date(2020, 1, 2), dt.datetime(2020, 1, 2, 3)] * (_BODY // 2))],
+     "dates and date-times: one kind each, not one for the column"),
+    (["Flags", *([True, False] * (_BODY // 2))], "booleans only"),
+    ([*[f"title {i}" for i in range(3)], "Head", *[float(i) for i in range(_BODY)]],
+     "title rows above a number column"),
+    ([*[float(i) for i in range(40)], *[f"t{i}" for i in range(_BODY)]],
+     "numbers in the top rows, text below: objects"),
+]  # fmt: skip
+
+
+def test_grid_columns_cases_do_not_repeat():
+    assert len({why for _, why in GRID_COLUMNS}) == len(GRID_COLUMNS)
+
+
+@pytest.mark.parametrize("cells, why", GRID_COLUMNS, ids=[w for _, w in GRID_COLUMNS])
+def test_grid_columns_agree_with_cell_kinds(cells, why):
+    # cell_kinds (checked against kinds_of above) is the reference for every faster pass
+    from datemend.core.readers_book import _grid_columns
+
+    height = max(len(c) for c, _ in GRID_COLUMNS)
+    col = list(cells) + [""] * (height - len(cells))
+    rows = [[v] for v in col]
+    values, kinds, _ = _grid_columns(rows, [], (0, 0))
+    ref = np.array(col, dtype=object)
+    ref_kinds, _ = cell_kinds(ref)
+    assert kinds[0].tolist() == ref_kinds.tolist(), why
+    got = _cells(values[0])
+    want = list(ref)
+    assert [type(v) for v in got] == [type(v) for v in want], why
+    assert got == want, why
+
+
+def test_grid_columns_hold_text_as_arrow_but_errors_as_objects():
+    from datemend.core.readers_book import _grid_columns
+
+    rows = [["Name", "Score"], *[[f"n{i}", f"s{i}"] for i in range(60)]]
+    values, kinds, _ = _grid_columns(rows, [(5, 1, "#DIV/0!")], (0, 0))
+    assert hasattr(values[0], "to_pylist")  # text only: Arrow strings
+    assert not hasattr(values[1], "to_pylist")  # an error cell there: Python objects
+    assert values[1][5] == "#DIV/0!" and K(kinds[1][5]) == K.ERROR
+
+
+def test_text_column_of_a_workbook_is_arrow_held(tmp_path):
+    p = _book(tmp_path / "t.xlsx", [["Name", "Joined"], *[[f"n{i}", i] for i in range(50)]])
+    t = read_table(p)
+    assert t.column("Name").arrow is not None
+    assert t.column("Name").values[:2].tolist() == ["n0", "n1"]
+    assert t.column("Joined").arrow is None  # numbers stay Python objects
+    assert t.column("Joined").values[:2].tolist() == [0, 1]
+
+
 def _ods(path, df, patch=None):
     with pd.ExcelWriter(path, engine="odf") as w:
         df.to_excel(w, sheet_name="Members", index=False)

@@ -14,6 +14,7 @@ from the file's own XML, read as bytes and searched, never parsed cell by cell a
 from __future__ import annotations
 
 import datetime as _dt
+import threading
 import zipfile
 from dataclasses import dataclass
 from pathlib import Path
@@ -181,10 +182,33 @@ def cell_kinds(flat: np.ndarray) -> tuple[np.ndarray, list[str]]:
     return kinds, notes
 
 
-def _grid_kinds(rows: list[list[object]]) -> tuple[np.ndarray, np.ndarray, list[str]]:
-    """Rows of Python values → (values, kinds) 2-D arrays indexed [column, row]; plus notes."""
+#: Kinds a column of one Python type gets without a pass of ``cell_kinds`` (no value changes).
+_SAME_TYPE = {
+    _dt.datetime: CellKind.DATETIME,
+    _dt.date: CellKind.DATE,
+    _dt.time: CellKind.TIME,
+    bool: CellKind.BOOL,
+    int: CellKind.INT,
+}
+
+
+#: Top rows of a sheet typed cell by cell: the header, and any title or note rows above it.
+_HEAD = 32
+
+
+def _grid_columns(
+    rows: list[list[object]], errors: list[tuple[int, int, str]], start: tuple[int, int]
+) -> tuple[list[np.ndarray | pa.Array], list[np.ndarray], list[str]]:
+    """Rows of Python values → (values, kinds) per grid column, plus notes; ``errors`` (sheet
+    row, column, text; 0-based) are written in as ERROR cells.
+
+    A column of text cells only (calamine gives an empty cell as "") is held as an Arrow string
+    array, as the CSV reader holds its columns (a quarter of the memory, and the engine hashes
+    it directly); a column of numbers only is typed in one numpy pass, one of a single other
+    type by a lookup; any other column (mixed kinds, durations) goes through ``cell_kinds``.
+    tests/core/test_readers_book.py checks every way against ``cell_kinds``."""
     height = len(rows)
-    width = max((len(r) for r in rows), default=0)
+    width = max(map(len, rows), default=0)
     grid = np.empty((height, width), dtype=object)
     try:
         grid[:, :] = rows
@@ -192,9 +216,96 @@ def _grid_kinds(rows: list[list[object]]) -> tuple[np.ndarray, np.ndarray, list[
         grid[:, :] = ""
         for i, r in enumerate(rows):
             grid[i, : len(r)] = r
-    flat = grid.T.ravel()
-    kinds, notes = cell_kinds(flat)
-    return flat.reshape(width, height), kinds.reshape(width, height), notes
+    values: list[np.ndarray | pa.Array] = [None] * width  # type: ignore[list-item]
+    kinds: list[np.ndarray] = [None] * width  # type: ignore[list-item]
+    r0, c0 = start
+    bad = {c - c0 for _, c, _ in errors}
+    head = min(_HEAD, height)  # the header (and any title rows) may differ from the data
+    slow: list[tuple[int, int]] = []  # (column, first row) of cells left to cell_kinds
+    for j in range(width):
+        col = grid[:, j]  # a view: writes go into the grid
+        how = pd.api.types.infer_dtype(col[head:], skipna=False)
+        # error cells are not text: a column with any keeps Python objects
+        if (
+            how == "string"
+            and j not in bad
+            and pd.api.types.infer_dtype(col[:head], skipna=False) in ("string", "empty")
+        ):
+            arr = pa.array(col, type=pa.string())
+            empty = pc.equal(pc.utf8_length(arr), 0)
+            blank = pc.equal(pc.utf8_trim_whitespace(arr), "").to_numpy(zero_copy_only=False)
+            kinds[j] = np.where(blank, CellKind.EMPTY, CellKind.TEXT).astype(np.int8)
+            values[j] = pc.if_else(empty, pa.scalar(None, pa.string()), arr)
+            continue
+        vals = np.ascontiguousarray(col)
+        k = np.empty(height, dtype=np.int8)
+        values[j], kinds[j] = vals, k
+        body = vals[head:]
+        if how == "floating":
+            f = body.astype(np.float64)
+            kb = k[head:]
+            kb[:] = CellKind.FLOAT
+            nan = np.isnan(f)
+            kb[nan] = CellKind.EMPTY
+            body[nan] = None
+            whole = np.isfinite(f) & (np.abs(f) < 2.0**53)
+            whole[whole] = f[whole] == np.floor(f[whole])
+            if whole.any():
+                body[whole] = f[whole].astype(np.int64).astype(object)
+                kb[whole] = CellKind.INT
+            slow.append((j, 0))
+            continue
+        if how in ("date", "datetime", "time", "boolean", "integer"):
+            types = set(map(type, body))
+            if len(types) == 1 and (only := types.pop()) in _SAME_TYPE:
+                k[head:] = _SAME_TYPE[only]
+                slow.append((j, 0))
+                continue
+        slow.append((j, height))
+    notes: list[str] = []
+    if slow:
+        # the cells the passes above left (the top rows, and whole columns of mixed kinds),
+        # typed together: cell_kinds changes the copy, which is then put back
+        parts = [values[j][: max(n, head)] for j, n in slow]
+        sub = np.concatenate(parts)
+        sub_kinds, notes = cell_kinds(sub)
+        at = 0
+        for (j, _), part in zip(slow, parts, strict=True):
+            m = len(part)
+            values[j][:m] = sub[at : at + m]
+            kinds[j][:m] = sub_kinds[at : at + m]
+            at += m
+    del grid
+    for r, c, text in errors:
+        i, j = r - r0, c - c0
+        if 0 <= i < height and 0 <= j < width:
+            values[j][i] = text
+            kinds[j][i] = CellKind.ERROR
+    return values, kinds, notes
+
+
+class _Beside:
+    """``fn(*args)`` run on a thread of its own; ``result()`` waits for it and returns its value
+    or raises its exception."""
+
+    def __init__(self, fn, *args) -> None:
+        self._out: tuple = (None, None)
+
+        def run() -> None:
+            try:
+                self._out = (fn(*args), None)
+            except BaseException as err:  # handed to the caller by result()
+                self._out = (None, err)
+
+        self._thread = threading.Thread(target=run, name="datemend-sheet-xml", daemon=True)
+        self._thread.start()
+
+    def result(self):
+        self._thread.join()
+        value, err = self._out
+        if err is not None:
+            raise err
+        return value
 
 
 def read_book_table(
@@ -248,6 +359,7 @@ def read_book_table(
                 notes.append(f'No sheet is visible; the first sheet "{sheet_name}" was read.')
             if progress is not None:
                 progress.report(1, 4, f"Reading {where}")
+            extras: _Beside | None = None
             try:
                 if is_ods:
                     content = z.read("content.xml")
@@ -260,12 +372,25 @@ def read_book_table(
                     if part is not None and part in members:
                         xml = z.read(part)
                         refuse_sparse_giant(xml, where, path)
-                        errors, extra = xlsx_sheet_extras(xml)
+                        # calamine parses the sheet without holding Python's lock, so the
+                        # byte searches for what it does not tell run meanwhile on a thread.
+                        extras = _Beside(xlsx_sheet_extras, xml)
                         del xml
             except (KeyError, zipfile.BadZipFile, OSError, ValueError, SyntaxError) as err:
                 raise ReadError(f"{where} is damaged ({_short(err)}).", path) from None
             try:
                 cs = book.get_sheet_by_name(sheet_name)
+            except (KeyboardInterrupt, SystemExit):
+                raise
+            except BaseException as err:  # calamine errors, or a panic
+                raise ReadError(f"{where} could not be read ({_short(err)}).", path) from None
+            finally:
+                if extras is not None:
+                    try:
+                        errors, extra = extras.result()
+                    except (ValueError, SyntaxError) as err:
+                        raise ReadError(f"{where} is damaged ({_short(err)}).", path) from None
+            try:
                 rows = cs.to_python(skip_empty_area=True)
                 start = cs.start or (0, 0)
                 merged_ranges = cs.merged_cell_ranges
@@ -299,20 +424,15 @@ def read_book_table(
         if header_row is not None:
             raise ReadError(f"{where} is empty, so header row {header_row} does not exist.", path)
         raise ReadError(f"{where} is empty: it has no cells to read.", path)
-    values, kinds, grid_notes = _grid_kinds(rows)
+    values, kinds, grid_notes = _grid_columns(rows, errors, start)
     notes.extend(grid_notes)
     r0, c0 = start
-    height, width = values.shape[1], values.shape[0]
-    for r, c, text in errors:
-        i, j = r - r0, c - c0
-        if 0 <= i < height and 0 <= j < width:
-            values[j, i] = text
-            kinds[j, i] = CellKind.ERROR
+    height, width = len(rows), len(kinds)
     row_numbers = np.arange(r0 + 1, r0 + 1 + height, dtype=np.int64)
     labels = [column_letter(c0 + j) for j in range(width)]
     return build_table(
-        list(values),
-        list(kinds),
+        values,
+        kinds,
         row_numbers,
         facts,
         header_row=header_row,

@@ -11,8 +11,9 @@ Sections and goals (from the scale issue):
   4. peak memory of open + replay + export of that CSV  vs  the DataFrame's own size  ≤ 3×
 
 The data is an invented rowing-club membership export, generated once into ``--cache``. Times
-are the best of ``--repeat`` runs (wall clock, one process). Nothing here is a test: CI never
-runs it, and tests never assert timings.
+are the best of ``--repeat`` runs (wall clock, one process); section 1 alternates at least five
+rounds of the two and judges the larger of best/best and the median of the rounds' ratios.
+Nothing here is a test: CI never runs it, and tests never assert timings.
 """
 
 from __future__ import annotations
@@ -209,16 +210,37 @@ def section_xlsx(path: Path, repeat: int) -> dict[str, float]:
     def ours() -> object:
         return scan(read_table(path))
 
-    base = best_of(repeat, bare)
-    mine = best_of(repeat, ours)
+    # Rounds alternate the two (bare, ours, bare, ours …) so a slow spell of this shared
+    # machine falls on both; the figure judged is the larger of best/best and the median of
+    # the rounds' own ratios (one lucky baseline run cannot make the goal look met).
+    bases, mines = [], []
+    for _ in range(repeat):
+        bases.append(best_of(1, bare))
+        mines.append(best_of(1, ours))
+    base, mine = min(bases), min(mines)
     read = best_of(repeat, lambda: read_table(path))
-    ratio = mine / base
+    rounds = sorted(m / b for m, b in zip(mines, bases, strict=True))
+    median = (
+        rounds[len(rounds) // 2] if len(rounds) % 2 else sum(rounds[len(rounds) // 2 - 1 :][:2]) / 2
+    )
+    ratio = max(mine / base, median)
     print("\n1. open + scan of an XLSX (100k rows × 12 columns at full size)")
     print(f"   baseline python-calamine CalamineWorkbook...to_python(): {base:7.2f} s")
     print(f"   datemend read_table + scan:                              {mine:7.2f} s")
     print(f"     of which read_table (cells, kinds, 1904 flag, notes):  {read:7.2f} s")
-    print(f"   ratio {ratio:.2f}× (goal ≤ 2×: {verdict(ratio, 2.0)})")
-    return {"xlsx_base_s": base, "xlsx_datemend_s": mine, "xlsx_read_s": read, "xlsx_ratio": ratio}
+    print(
+        f"   best/best {mine / base:.2f}×; each round (ours / bare): "
+        + ", ".join(f"{m / b:.2f}×" for m, b in zip(mines, bases, strict=True))
+        + f"; median {median:.2f}×"
+    )
+    print(f"   ratio {ratio:.2f}× (the larger of the two; goal ≤ 2×: {verdict(ratio, 2.0)})")
+    return {
+        "xlsx_base_s": base,
+        "xlsx_datemend_s": mine,
+        "xlsx_read_s": read,
+        "xlsx_ratio": ratio,
+        "xlsx_round_median": median,
+    }
 
 
 def ten_step_log(raw: object) -> object:
@@ -400,7 +422,7 @@ def main(argv: list[str] | None = None) -> int:
         work = Path(tmp)
         if "1" in args.sections:
             xlsx = make_xlsx(args.cache / f"roster_{xlsx_rows}.xlsx", xlsx_rows)
-            figures |= section_xlsx(xlsx, repeat)
+            figures |= section_xlsx(xlsx, max(repeat, 5))
         if "2" in args.sections or "4" in args.sections:
             figures |= section_replay(csv, repeat, work)  # also saves the log section 4 uses
         if "3" in args.sections:

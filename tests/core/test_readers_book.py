@@ -248,6 +248,9 @@ GRID_COLUMNS = [
      "title rows above a number column"),
     ([*[float(i) for i in range(40)], *[f"t{i}" for i in range(_BODY)]],
      "numbers in the top rows, text below: objects"),
+    (["Odd", *([None, "a"] * (_BODY // 2))], "text with None cells: not held as Arrow"),
+    (["Late", *[f"t{i}" for i in range(_BODY - 1)], 4.0], "text, then a number at the end"),
+    (["Early", 4.0, *[f"t{i}" for i in range(_BODY - 1)]], "a number, then text"),
 ]  # fmt: skip
 
 

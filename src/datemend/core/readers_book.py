@@ -224,19 +224,25 @@ def _grid_columns(
     slow: list[tuple[int, int]] = []  # (column, first row) of cells left to cell_kinds
     for j in range(width):
         col = grid[:, j]  # a view: writes go into the grid
-        how = pd.api.types.infer_dtype(col[head:], skipna=False)
+        arr = None
         # error cells are not text: a column with any keeps Python objects
-        if (
-            how == "string"
-            and j not in bad
-            and pd.api.types.infer_dtype(col[:head], skipna=False) in ("string", "empty")
-        ):
-            arr = pa.array(col, type=pa.string())
+        if j not in bad and type(col[-1]) is str:
+            # all text (the common case): Arrow checks every cell as it copies it, refusing
+            # numbers, dates and booleans (calamine gives those, str, and "" for empty; a
+            # None would become a null, so a column with one takes the other way)
+            try:
+                arr = pa.array(col, type=pa.string())
+            except (pa.ArrowTypeError, pa.ArrowInvalid):
+                arr = None
+            if arr is not None and arr.null_count:
+                arr = None
+        if arr is not None:
             empty = pc.equal(pc.utf8_length(arr), 0)
             blank = pc.equal(pc.utf8_trim_whitespace(arr), "").to_numpy(zero_copy_only=False)
             kinds[j] = np.where(blank, CellKind.EMPTY, CellKind.TEXT).astype(np.int8)
             values[j] = pc.if_else(empty, pa.scalar(None, pa.string()), arr)
             continue
+        how = pd.api.types.infer_dtype(col[head:], skipna=False)
         vals = np.ascontiguousarray(col)
         k = np.empty(height, dtype=np.int8)
         values[j], kinds[j] = vals, k

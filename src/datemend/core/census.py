@@ -19,6 +19,7 @@ from .parse import (
     DATE_CELL,
     TextResult,
     _apply_zone,
+    distinct_arrow,
     distinct_texts,
     normalise,
     parse_texts,
@@ -160,6 +161,9 @@ class Census:
     feats: dict | None = None
     ref_year: int = 2100
     arrow: pa.Array | None = None  # the texts as an Arrow array
+    #: cells and first cell of every distinct value of the column (not only the sampled ones)
+    all_cells: np.ndarray | None = None
+    all_first: np.ndarray | None = None
 
 
 def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
@@ -188,7 +192,8 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
             f"estimated from a sample of {len(sel):,} of {len(uniques):,} distinct values "
             f"({int(weights[sel].sum()):,} of {len(rows_t):,} cells)"
         )
-    arrow = pa.array(texts[sel], type=pa.string())
+    every = distinct_arrow(column)
+    arrow = every if len(sel) == len(uniques) else every.take(pa.array(sel))
     norm = normalise(arrow)
     digit = pc.match_substring_regex(norm, _DIGITS_RE).to_numpy(zero_copy_only=False)
     spec = ParseSpec(
@@ -228,6 +233,7 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     c.feats = feats
     c.arrow = arrow
     c.locales = _languages(c)
+    c.all_cells, c.all_first = weights, first  # for full_view: every distinct value
     return c
 
 
@@ -236,10 +242,13 @@ def full_view(c: Census, column: RawColumn) -> Census:
     if c.sample_note is None:
         return c
     rows_t, codes, texts = distinct_texts(column)
-    cells = np.bincount(codes, minlength=len(texts)).astype(np.int64)
-    first = np.full(len(texts), -1, dtype=np.int64)
-    first[codes[::-1]] = np.arange(len(codes))[::-1]
-    arrow = pa.array(texts, type=pa.string())
+    if c.all_cells is not None and len(c.all_cells) == len(texts):
+        cells, first = c.all_cells, c.all_first
+    else:
+        cells = np.bincount(codes, minlength=len(texts)).astype(np.int64)
+        first = np.full(len(texts), -1, dtype=np.int64)
+        first[codes[::-1]] = np.arange(len(codes))[::-1]
+    arrow = distinct_arrow(column)
     norm = normalise(arrow)
     feats = features(norm)
     tokens = pa.array(list(c.blank_tokens), pa.string())

@@ -632,18 +632,21 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
     kinds = column.kinds
     textual = TEXT_LIKE[kinds]
     rows = np.flatnonzero(textual)
+    arrow: pa.Array | None = None  # the distinct texts as Arrow, when hashing made them so
     if not len(rows):
         out = (rows.astype(np.int64), np.zeros(0, np.int64), np.zeros(0, dtype=object))
     elif column.arrow is not None:  # text cells only, held as Arrow strings
         arr = column.arrow if len(rows) == len(column) else column.arrow.take(rows)
-        out = (rows, *_encode(arr))
+        codes, dictionary = _encode_arrow(arr)
+        out = (rows, codes, _as_objects(dictionary))
+        arrow = dictionary.cast(pa.string())  # a large_string column: the engine's own type
     else:
         numeric = NUMBER_KIND[kinds]
         code_at = np.full(len(column), -1, dtype=np.int64)
         uniques = np.zeros(0, dtype=object)
         text_cells = textual & ~numeric
         if text_cells.any():
-            code_at, uniques = _encode_objects(column.values, ~text_cells)
+            code_at, uniques, arrow = _encode_objects(column.values, ~text_cells)
         if numeric.any():
             at = np.flatnonzero(numeric)
             codes, nums = pd.factorize(column.values[at])
@@ -651,26 +654,50 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
             code_at[at] = codes + len(uniques)
             texts = _numbers_text(nums)
             uniques = np.concatenate([uniques, texts])
+            if arrow is not None:
+                arrow = pa.concat_arrays([arrow.cast(pa.string()), pa.array(texts, pa.string())])
         out = (rows, code_at[rows], uniques)
     if len(column) < 2**31:  # kept for the column's life: half the memory of int64
         out = (out[0].astype(np.int32, copy=False), out[1].astype(np.int32, copy=False), out[2])
     _DISTINCT[column] = out
+    if arrow is not None:
+        _DISTINCT_ARROW[column] = arrow
     return out
 
 
-def _encode(arr: pa.Array) -> tuple[np.ndarray, np.ndarray]:
-    """(code of each value, distinct values as Python strings) of an Arrow string array;
-    distinct values in order of first appearance, nulls coded -1."""
+_DISTINCT_ARROW: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
+def distinct_arrow(column: RawColumn) -> pa.Array:
+    """``distinct_texts(column)``'s distinct texts as an Arrow string array (kept when hashing
+    made one, so they are not turned back from Python strings)."""
+    texts = distinct_texts(column)[2]
+    hit = _DISTINCT_ARROW.get(column)
+    if hit is None or len(hit) != len(texts):
+        hit = pa.array(texts, type=pa.string())
+        _DISTINCT_ARROW[column] = hit
+    return hit
+
+
+def _encode_arrow(arr: pa.Array) -> tuple[np.ndarray, pa.Array]:
+    """(code of each value, distinct values) of an Arrow string array; distinct values in order
+    of first appearance, nulls coded -1."""
     enc = pc.dictionary_encode(arr)
     codes = enc.indices
     if codes.null_count:
         codes = pc.fill_null(codes, -1)
-    codes = codes.to_numpy(zero_copy_only=False)
-    return codes, enc.dictionary.to_numpy(zero_copy_only=False).astype(object, copy=False)
+    return codes.to_numpy(zero_copy_only=False), enc.dictionary
 
 
-def _encode_objects(values: np.ndarray, skip: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """As ``_encode`` for the cells of an object array not in ``skip`` (text cells): Arrow's
+def _as_objects(arr: pa.Array) -> np.ndarray:
+    return arr.to_numpy(zero_copy_only=False).astype(object, copy=False)
+
+
+def _encode_objects(
+    values: np.ndarray, skip: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, pa.Array | None]:
+    """As ``_encode_arrow`` (codes, distinct values as Python strings, and as Arrow when Arrow
+    hashed them) for the cells of an object array not in ``skip`` (text cells): Arrow's
     hashing is about twice as fast as pandas' on Python strings. Anything but strings there (an
     error cell from a reader that gives no text) takes pandas' path; non-strings become text.
     Skipped cells are coded -1."""
@@ -679,14 +706,15 @@ def _encode_objects(values: np.ndarray, skip: np.ndarray) -> tuple[np.ndarray, n
     except (pa.ArrowException, TypeError, ValueError, UnicodeError):
         arr = None
     if arr is not None and arr.null_count == int(skip.sum()):
-        return _encode(arr)
+        codes, dictionary = _encode_arrow(arr)
+        return codes, _as_objects(dictionary), dictionary
     at = np.flatnonzero(~skip)
     codes, uniques = pd.factorize(values[at])
     if pd.api.types.infer_dtype(uniques, skipna=False) != "string":
         uniques = _numbers_text(uniques)
     code_at = np.full(len(values), -1, dtype=np.int64)
     code_at[at] = codes
-    return code_at, np.asarray(uniques, dtype=object)
+    return code_at, np.asarray(uniques, dtype=object), None
 
 
 _RESULTS: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()

@@ -186,24 +186,24 @@ def parse_texts(
     """Parse texts (a sequence, numpy array or Arrow array of str) with ``spec``. ``norm`` and
     ``feats`` (from ``normalise`` and ``fields.features``) may be passed when already known.
     Without ``explain`` the reasons are written only when asked for (see ``TextResult``)."""
+    raw = _as_array(texts)
     before = _fields._explaining()
     _fields._LOCAL.explain = explain
     try:
-        out = _parse_texts(texts, spec, norm, feats)
+        out = _parse_texts(raw, spec, norm, feats)
     finally:
         _fields._LOCAL.explain = before
     if not explain:
-        out._unsaid = (_as_array(texts), spec)
+        out._unsaid = (raw, spec)
     return out
 
 
 def _parse_texts(
-    texts: object,
+    raw: pa.Array,
     spec: ParseSpec,
     norm: pa.Array | None,
     feats: dict[str, np.ndarray] | None,
 ) -> TextResult:
-    raw = _as_array(texts)
     n = len(raw)
     out = _empty_result(n)
     if n == 0:

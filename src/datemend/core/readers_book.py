@@ -221,7 +221,7 @@ def _grid_columns(
     r0, c0 = start
     bad = {c - c0 for _, c, _ in errors}
     head = min(_HEAD, height)  # the header (and any title rows) may differ from the data
-    slow: list[tuple[int, int]] = []  # (column, first row) of cells left to cell_kinds
+    slow: list[tuple[int, int]] = []  # (column, top rows at least) left to cell_kinds
     for j in range(width):
         col = grid[:, j]  # a view: writes go into the grid
         arr = None

@@ -14,8 +14,8 @@ from the file's own XML, read as bytes and searched, never parsed cell by cell a
 from __future__ import annotations
 
 import datetime as _dt
-import threading
 import zipfile
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -130,6 +130,17 @@ _KIND_OF_TYPE = {
 }
 
 
+def _number_kinds(f: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Kinds of number cells (a spreadsheet holds every number as a float): FLOAT, EMPTY for
+    NaN, INT for whole ones; plus which are whole and those as Python ints, for the cells."""
+    kinds = np.full(len(f), CellKind.FLOAT, dtype=np.int8)
+    kinds[np.isnan(f)] = CellKind.EMPTY
+    whole = np.isfinite(f) & (np.abs(f) < 2.0**53)
+    whole[whole] = f[whole] == np.floor(f[whole])
+    kinds[whole] = CellKind.INT
+    return kinds, whole, f[whole].astype(np.int64).astype(object)
+
+
 _type_of = np.frompyfunc(type, 1, 1)  # about 2.5x faster than Series.map(type)
 
 
@@ -166,15 +177,8 @@ def cell_kinds(flat: np.ndarray) -> tuple[np.ndarray, list[str]]:
             flat[idx] = [str(v) for v in flat[idx]]
     floats = np.flatnonzero(kinds == CellKind.FLOAT)
     if len(floats):
-        f = flat[floats].astype(np.float64)
-        nan = np.isnan(f)
-        kinds[floats[nan]] = CellKind.EMPTY
-        whole = np.isfinite(f) & (np.abs(f) < 2.0**53)
-        whole[whole] = f[whole] == np.floor(f[whole])
-        idx = floats[whole]
-        if len(idx):
-            flat[idx] = f[whole].astype(np.int64).astype(object)
-            kinds[idx] = CellKind.INT
+        kinds[floats], whole, ints = _number_kinds(flat[floats].astype(np.float64))
+        flat[floats[whole]] = ints
     empty = kinds == CellKind.EMPTY
     if keep is not None:
         empty[keep] = False
@@ -248,17 +252,9 @@ def _grid_columns(
         values[j], kinds[j] = vals, k
         body = vals[head:]
         if how == "floating":
-            f = body.astype(np.float64)
-            kb = k[head:]
-            kb[:] = CellKind.FLOAT
-            nan = np.isnan(f)
-            kb[nan] = CellKind.EMPTY
-            body[nan] = None
-            whole = np.isfinite(f) & (np.abs(f) < 2.0**53)
-            whole[whole] = f[whole] == np.floor(f[whole])
-            if whole.any():
-                body[whole] = f[whole].astype(np.int64).astype(object)
-                kb[whole] = CellKind.INT
+            k[head:], whole, ints = _number_kinds(body.astype(np.float64))
+            body[k[head:] == CellKind.EMPTY] = None
+            body[whole] = ints
             slow.append((j, 0))
             continue
         if how in ("date", "datetime", "time", "boolean", "integer"):
@@ -288,30 +284,6 @@ def _grid_columns(
             values[j][i] = text
             kinds[j][i] = CellKind.ERROR
     return values, kinds, notes
-
-
-class _Beside:
-    """``fn(*args)`` run on a thread of its own; ``result()`` waits for it and returns its value
-    or raises its exception."""
-
-    def __init__(self, fn, *args) -> None:
-        self._out: tuple = (None, None)
-
-        def run() -> None:
-            try:
-                self._out = (fn(*args), None)
-            except BaseException as err:  # handed to the caller by result()
-                self._out = (None, err)
-
-        self._thread = threading.Thread(target=run, name="datemend-sheet-xml", daemon=True)
-        self._thread.start()
-
-    def result(self):
-        self._thread.join()
-        value, err = self._out
-        if err is not None:
-            raise err
-        return value
 
 
 def read_book_table(
@@ -365,7 +337,7 @@ def read_book_table(
                 notes.append(f'No sheet is visible; the first sheet "{sheet_name}" was read.')
             if progress is not None:
                 progress.report(1, 4, f"Reading {where}")
-            extras: _Beside | None = None
+            extras: Future | None = None
             try:
                 if is_ods:
                     content = z.read("content.xml")
@@ -380,7 +352,9 @@ def read_book_table(
                         refuse_sparse_giant(xml, where, path)
                         # calamine parses the sheet without holding Python's lock, so the
                         # byte searches for what it does not tell run meanwhile on a thread.
-                        extras = _Beside(xlsx_sheet_extras, xml)
+                        pool = ThreadPoolExecutor(1, thread_name_prefix="datemend-sheet-xml")
+                        extras = pool.submit(xlsx_sheet_extras, xml)
+                        pool.shutdown(wait=False)  # the search runs on; the pool takes no more
                         del xml
             except (KeyError, zipfile.BadZipFile, OSError, ValueError, SyntaxError) as err:
                 raise ReadError(f"{where} is damaged ({_short(err)}).", path) from None

@@ -240,7 +240,7 @@ class _Features(dict):
             self[key] = out
             return out
         if how == "regex":
-            hit = pc.match_substring_regex(self.texts, arg)
+            hit = pc.match_substring_regex(self.texts, letters_for(arg, self.texts))
         else:
             hit = pc.match_substring(self.texts, arg)
         out = hit.to_numpy(zero_copy_only=False)
@@ -261,6 +261,26 @@ def features(texts: pa.Array) -> _Features:
     return _Features(texts)
 
 
+def letters_for(regex: str, texts: pa.Array) -> str:
+    r"""``regex`` as RE2 should compile it for ``texts``: its Unicode letter class ``\pL``
+    costs RE2 about 2 ms to compile on every call, so when every text is ASCII (where a letter
+    is A–Z or a–z, and the two match alike) it is written ``[A-Za-z]``."""
+    if r"\pL" not in regex or not all_ascii(texts):
+        return regex
+    return _ascii_letters(regex)
+
+
+def all_ascii(texts: pa.Array) -> bool:
+    """Whether every text (nulls aside) is ASCII, and there is at least one."""
+    return bool(len(texts)) and bool(pc.all(pc.string_is_ascii(texts)).as_py())
+
+
+@lru_cache(maxsize=512)
+def _ascii_letters(regex: str) -> str:
+    out = regex.replace(r"[\pL-]", "[A-Za-z-]").replace(r"[^\pL]", "[^A-Za-z]")
+    return out.replace(r"\pL", "[A-Za-z]")
+
+
 @lru_cache(maxsize=512)
 def _python_regex(regex: str) -> tuple[re.Pattern[str], tuple[str, ...]]:
     # The shapes use RE2 syntax; the few constructs Python writes differently are translated.
@@ -271,9 +291,13 @@ def _python_regex(regex: str) -> tuple[re.Pattern[str], tuple[str, ...]]:
 
 
 def extract(texts: pa.Array, regex: str) -> pa.StructArray:
-    """``pyarrow.compute.extract_regex``, in Python for a handful of texts."""
+    """``pyarrow.compute.extract_regex``, in Python for a handful of texts, and by splitting
+    for a shape of digit groups between one separator (see ``_split_plan``)."""
     if len(texts) > SMALL:
-        return pc.extract_regex(texts, regex)
+        plan = _split_plan(regex)
+        if plan is not None:
+            return _extract_by_split(texts, regex, *plan)
+        return pc.extract_regex(texts, letters_for(regex, texts))
     rx, names = _python_regex(regex)
     rows = []
     for t in texts.to_pylist():
@@ -281,6 +305,45 @@ def extract(texts: pa.Array, regex: str) -> pa.StructArray:
         rows.append(None if m is None else {k: (v or "") for k, v in m.groupdict().items()})
     typ = pa.struct([(k, pa.string()) for k in names])
     return pa.array(rows, type=typ)
+
+
+_DIGIT_GROUP = re.compile(r"\(\?P<(\w+)>\\d\{\d+(?:,\d+)?\}(?:\|\\d\{\d+(?:,\d+)?\})*\)")
+
+
+@lru_cache(maxsize=512)
+def _split_plan(regex: str) -> tuple[str, tuple[str, ...]] | None:
+    r"""(separator, group names) when ``regex`` is whole: named groups of digits only, joined
+    by one literal character that is no digit, as ``^(?P<a>\d{1,2})/(?P<b>\d{1,2})/(?P<y>\d{4})$``.
+    A text it matches is then exactly its groups joined by the separator, so splitting the
+    text there gives the groups: one quick match (no submatches) and a split, instead of
+    RE2's slower extraction of submatches."""
+    if not (regex.startswith("^") and regex.endswith("$")):
+        return None
+    body = regex[1:-1]
+    names, seps, pos = [], [], 0
+    for m in _DIGIT_GROUP.finditer(body):
+        seps.append(body[pos : m.start()])
+        names.append(m.group(1))
+        pos = m.end()
+    if pos != len(body) or len(names) < 2 or seps[0] != "" or len(set(seps[1:])) != 1:
+        return None
+    sep = seps[1]
+    if len(sep) == 2 and sep[0] == "\\" and not sep[1].isalnum():
+        sep = sep[1]  # an escaped character: "\." is a dot
+    elif len(sep) != 1 or sep in r".^$*+?()[]{}|\\" or sep.isalnum():
+        return None
+    return sep, tuple(names)
+
+
+def _extract_by_split(
+    texts: pa.Array, regex: str, sep: str, names: tuple[str, ...]
+) -> pa.StructArray:
+    ok = pc.match_substring_regex(texts, regex).fill_null(False).to_numpy(zero_copy_only=False)
+    g = len(names)
+    parts = pc.list_flatten(pc.split_pattern(texts.filter(pa.array(ok)), sep))
+    at = (np.cumsum(ok) - 1) * g  # first group of each matched text among the parts
+    fields = [parts.take(pa.array(np.where(ok, at + j, 0), mask=~ok)) for j in range(g)]
+    return pa.StructArray.from_arrays(fields, names=list(names), mask=pa.array(~ok))
 
 
 def read_pattern(
@@ -349,6 +412,7 @@ def _read(
         v2 = s2.is_valid().to_numpy(zero_copy_only=False)
         if v2.any():
             groups.append((rest[v2], s2.filter(s2.is_valid())))
+    explain = _explaining()
     for idx, struct in groups:
         res = _read_fields(p, struct, len(idx), spec)
         live = res.pop("live")
@@ -357,7 +421,8 @@ def _read(
         keep = idx[live]
         out.matched[keep] = True
         for key, arr in res.items():
-            getattr(out, key)[keep] = arr[live]
+            if key != "reason" or explain:  # without reasons, every sentence is None
+                getattr(out, key)[keep] = arr[live]
     return out
 
 

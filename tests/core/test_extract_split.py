@@ -1,0 +1,60 @@
+"""Shapes of digit groups between one separator are extracted by a quick match and a split
+instead of RE2's submatch extraction; the result must be what ``pyarrow.compute.extract_regex``
+(the reference: RE2's own extraction) gives, on every such shape of the engine."""
+
+from __future__ import annotations
+
+import random
+
+import pyarrow as pa
+import pyarrow.compute as pc
+import pytest
+
+from datemend.core.fields import _split_plan, extract
+from datemend.core.patterns import PATTERNS, pattern
+
+
+def _shapes() -> list[str]:
+    out = []
+    for pid in PATTERNS:
+        p = pattern(pid)
+        out += [rx for rx in (p.simple, p.shape) if rx and _split_plan(rx) is not None]
+    return out
+
+
+def _texts(seed: int, n: int = 4000) -> pa.Array:
+    """Digit groups of 1–5 digits between separators, mostly one separator per text, some
+    mixed, doubled or missing, with letters and nulls among them."""
+    rng = random.Random(seed)
+    seps = ["/", "-", ".", " "]
+    out: list[str | None] = []
+    for _ in range(n):
+        sep = rng.choice(seps)
+        groups = ["".join(rng.choices("0123456789", k=rng.choice([1, 2, 2, 4, 3, 5])))]
+        for _ in range(rng.choice([1, 2, 2, 2, 3])):
+            glue = sep if rng.random() < 0.9 else rng.choice([*seps, "//", "", "a"])
+            groups.append(glue + "".join(rng.choices("0123456789", k=rng.choice([1, 2, 4]))))
+        text = "".join(groups)
+        out.append(None if rng.random() < 0.02 else text)
+    return pa.array(out, pa.string())
+
+
+def test_the_engine_has_split_shapes_and_others():
+    shapes = _shapes()
+    assert len(shapes) >= 8  # numeric day/month/year shapes with four separators
+    assert _split_plan(pattern("iso-date").shape) is None  # times and zones: RE2 extracts
+    assert _split_plan(pattern("compact-dmy").shape) is None  # no separator
+    assert _split_plan(r"^(?P<a>\d{2})[/-](?P<b>\d{2})$") is None  # a class, not one character
+    assert _split_plan(r"^(?P<a>\d{2})\.(?P<b>\d{2})$") == (".", ("a", "b"))
+
+
+@pytest.mark.parametrize("seed", [11, 12, 13])
+def test_split_extraction_equals_re2_extraction(seed):
+    texts = _texts(seed)
+    for rx in _shapes():
+        got, want = extract(texts, rx), pc.extract_regex(texts, rx)
+        assert got.is_valid().equals(want.is_valid()), rx
+        assert want.is_valid().to_numpy(zero_copy_only=False).any(), rx  # the texts reach it
+        valid = want.is_valid()
+        for name in (f.name for f in want.type):
+            assert got.filter(valid).field(name).equals(want.filter(valid).field(name)), rx

@@ -187,3 +187,16 @@ def test_numbers_outside_plausible_years_are_pointed_out() -> None:
     warn = " ".join(rep.best.warnings)
     assert "1 numbers read as serial 1900 give dates outside 1920–2076" in warn
     assert "3.5 → 1900-01-03T12:00:00" in warn
+
+
+def test_the_heaviest_values_are_picked_as_a_full_sort_picks_them():
+    # reference: numpy's stable argsort (ties in order of position), over many tie patterns
+    from datemend.core.census import top_by_weight
+
+    rng = np.random.default_rng(7)
+    for n in (1, 2, 10, 500, 5_000):
+        for high in (2, 5, 1_000):
+            w = rng.integers(1, high, n)
+            for k in (0, 1, 3, n // 2, n - 1, n, n + 5):
+                want = np.argsort(-w, kind="stable")[: max(k, 0)]
+                assert top_by_weight(w, k).tolist() == want.tolist(), (n, high, k)

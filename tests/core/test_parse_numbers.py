@@ -141,3 +141,42 @@ def test_whole_numbers_are_written_as_python_writes_them():
     mixed = [3, 2.5, 1e16]  # floats keep Python's shortest repr, whole ones as integers
     want = ["3", "2.5", "10000000000000000"]
     assert _numbers_text(_np.array(mixed, dtype=object)).tolist() == want
+
+
+@pytest.mark.parametrize(
+    "cells",
+    [
+        [3, 3.0, 2.5, 3, -0.0, 0, 45123.75, 2.5, 1e16, -7],  # equal numbers coded alike
+        [2**53, 2**53 + 1, 2**53],  # past float64's exact whole numbers: hashed as Python ints
+        [1, 2**70, 1],  # past 64 bits
+        [float("inf"), 1.5, float("nan"), float("nan"), 1.5],
+        [np.int64(44927), np.float64(0.1), 44927.0],  # numpy scalars from a DataFrame
+    ],
+)
+def test_number_cells_are_coded_as_python_equality_codes_them(cells):
+    # reference: Python's own == and hash (a dict keyed by the number), str() of an int and
+    # repr() of a float; NaN != NaN in Python, but every NaN cell is written "nan" alike
+    from datemend.core.parse import _factorize_numbers
+
+    values = np.array(cells, dtype=object)
+    kinds = np.array(
+        [CellKind.INT if isinstance(v, int | np.integer) else CellKind.FLOAT for v in cells],
+        dtype=np.int8,
+    )
+    codes, texts = _factorize_numbers(values, kinds)
+    seen: dict[object, int] = {}
+    want_codes, want_texts = [], []
+    for v in cells:
+        key = "nan" if v != v else v
+        if key not in seen:
+            seen[key] = len(seen)
+            f = float(v)
+            if isinstance(v, int | np.integer):
+                want_texts.append(str(int(v)))
+            elif f == f and f not in (float("inf"), float("-inf")) and f.is_integer():
+                want_texts.append(str(int(f)))
+            else:
+                want_texts.append(repr(f))
+        want_codes.append(seen[key])
+    assert codes.tolist() == want_codes
+    assert list(texts) == want_texts

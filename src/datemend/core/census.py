@@ -13,7 +13,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from .clean import CellState
-from .fields import Reading, features, read_pattern
+from .fields import Reading, _Features, features, letters_for, read_pattern
 from .names import LANGUAGES, month_languages
 from .parse import (
     DATE_CELL,
@@ -38,6 +38,8 @@ __all__ = [
     "number_window",
     "parse_sample",
     "placeholders_of",
+    "prepare_full",
+    "top_by_weight",
     "unread_patterns",
 ]
 
@@ -179,7 +181,7 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     note = None
     if len(uniques) > sample:
         # Deterministic: the most frequent half, and the rest spread evenly over the file order.
-        by_weight = np.argsort(-weights, kind="stable")[: sample // 2]
+        by_weight = top_by_weight(weights, sample // 2)
         keep = np.ones(len(uniques), dtype=bool)
         keep[by_weight] = False
         rest = np.flatnonzero(keep)
@@ -205,17 +207,18 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     readings = {
         pid: read_pattern(pattern(pid), norm, spec, feats, explain=False) for pid in spec.patterns
     }
-    dated_mask = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
-    examples = (
-        tuple((str(v), v.isoformat()) for v in pd.unique(column.values[dated_mask][:50])[:2])
-        if dated_mask.any()
-        else ()
-    )
+    count = np.bincount(kinds, minlength=len(CellKind))  # cells of each kind: one pass
+    n_dated = int(count[CellKind.DATE] + count[CellKind.DATETIME])
+    examples: tuple[tuple[str, str], ...] = ()
+    if n_dated:
+        dated_mask = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
+        firsts = pd.unique(column.values[dated_mask][:50])[:2]
+        examples = tuple((str(v), v.isoformat()) for v in firsts)
     c = Census(
         name=column.name,
         facts=facts,
         n_rows=len(column),
-        empty=int((kinds == CellKind.EMPTY).sum()),
+        empty=int(count[CellKind.EMPTY]),
         texts=texts[sel],
         weights=weights[sel] * scale[sel],
         cells=weights[sel],
@@ -224,9 +227,9 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
         digit=digit,
         n_distinct=len(uniques),
         text_cells=len(rows_t),
-        dated=int(dated_mask.sum()),
+        dated=n_dated,
         date_examples=examples,
-        other_failed=int(np.isin(kinds, (CellKind.TIME, CellKind.BOOL)).sum()),
+        other_failed=int(count[CellKind.TIME] + count[CellKind.BOOL]),
         readings=readings,
         sample_note=note,
     )
@@ -237,8 +240,50 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     return c
 
 
-def full_view(c: Census, column: RawColumn) -> Census:
-    """The census over every distinct value (no readings): for exact counts of one spec."""
+#: Features of every distinct value that ``prepare_full`` computes ahead (those of the
+#: numeric and ISO patterns most date columns use; others are computed when first needed).
+_AHEAD = ("digits", "slash", "dash", "dot", "space")
+
+
+@dataclass
+class FullPrep:
+    """What ``full_view`` needs of every distinct value that no decision of the census
+    changes: normalised texts, their features, and the texts trimmed and case-folded."""
+
+    arrow: pa.Array
+    norm: pa.Array
+    feats: _Features
+    folded: pa.Array
+
+
+def prepare_full(column: RawColumn) -> FullPrep:
+    """``FullPrep`` of a column. Pure Arrow kernels, which release Python's lock, so the scan
+    runs it on a thread while the census reads its sample."""
+    arrow = distinct_arrow(column)
+    norm = normalise(arrow)
+    feats = features(norm)
+    for key in _AHEAD:
+        feats[key]
+    return FullPrep(arrow, norm, feats, pc.utf8_trim_whitespace(pc.utf8_lower(arrow)))
+
+
+def top_by_weight(weights: np.ndarray, k: int) -> np.ndarray:
+    """``np.argsort(-weights, kind="stable")[:k]`` (the k heaviest, ties in order of position)
+    without sorting them all: the k-th largest weight is found by partition first."""
+    if k <= 0:
+        return np.zeros(0, dtype=np.intp)
+    if k >= len(weights):
+        return np.argsort(-weights, kind="stable")
+    cut = np.partition(weights, len(weights) - k)[len(weights) - k]  # the k-th largest
+    above = np.flatnonzero(weights > cut)  # fewer than k
+    ties = np.flatnonzero(weights == cut)[: k - len(above)]
+    pick = np.concatenate([above, ties])
+    return pick[np.argsort(-weights[pick], kind="stable")]
+
+
+def full_view(c: Census, column: RawColumn, prep: FullPrep | None = None) -> Census:
+    """The census over every distinct value (no readings): for exact counts of one spec.
+    ``prep``: ``prepare_full(column)``, when already made."""
     if c.sample_note is None:
         return c
     rows_t, codes, texts = distinct_texts(column)
@@ -248,12 +293,11 @@ def full_view(c: Census, column: RawColumn) -> Census:
         cells = np.bincount(codes, minlength=len(texts)).astype(np.int64)
         first = np.full(len(texts), -1, dtype=np.int64)
         first[codes[::-1]] = np.arange(len(codes))[::-1]
-    arrow = distinct_arrow(column)
-    norm = normalise(arrow)
-    feats = features(norm)
+    if prep is None or len(prep.arrow) != len(texts):
+        prep = prepare_full(column)
+    arrow, norm, feats = prep.arrow, prep.norm, prep.feats
     tokens = pa.array(list(c.blank_tokens), pa.string())
-    folded = pc.utf8_trim_whitespace(pc.utf8_lower(arrow))
-    placeholder = pc.is_in(folded, value_set=tokens).to_numpy(zero_copy_only=False)
+    placeholder = pc.is_in(prep.folded, value_set=tokens).to_numpy(zero_copy_only=False)
     return replace(
         c,
         texts=texts,
@@ -296,7 +340,8 @@ def _languages(c: Census) -> tuple[str, ...]:
         rows |= c.readings[p].ok
     if not rows.any():
         return ("en",)
-    words = pc.split_pattern_regex(c.norm.filter(pa.array(rows)), r"[^\pL]+")
+    named = c.norm.filter(pa.array(rows))
+    words = pc.split_pattern_regex(named, letters_for(r"[^\pL]+", named))
     w = c.weights[rows]
     where = month_languages()
     seen: list[set[str]] = []

@@ -20,6 +20,8 @@ from __future__ import annotations
 
 import datetime as _dt
 import os
+import re
+import threading
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
@@ -35,10 +37,11 @@ from .census import (
     number_window,
     parse_sample,
     placeholders_of,
+    prepare_full,
     unread_patterns,
 )
 from .evidence import choose_patterns, decide_century, decide_day_order, decide_zone
-from .parse import distinct_texts, remember
+from .parse import distinct_arrow, distinct_texts, remember
 from .patterns import PATTERNS, label
 from .progress import Progress
 from .report import CellNote, ColumnReport, Suggestion
@@ -76,6 +79,12 @@ def scan_column(
     if quick is not None:
         return quick
     check()
+    # What the full view needs that no decision changes is made on a thread meanwhile (Arrow
+    # kernels, which release Python's lock); a column of few distinct values needs none.
+    ahead = None
+    if len(distinct_texts(column)[2]) > SAMPLE:
+        ahead = _helpers().submit(prepare_full, column)
+    # (after a Stop it finishes unused: a fraction of a second of Arrow work, no side effect)
     census = census_of(column, facts, sample=SAMPLE)
     check()
     census.ref_year = ref_year
@@ -121,7 +130,7 @@ def scan_column(
     )
     warnings = [*warn_order, *zone_warn, *census.notes_warn, *census.notes]
     check()
-    full = full_view(census, column)
+    full = full_view(census, column, ahead.result() if ahead is not None else None)
     check()
     if full is not census:
         notes.append(
@@ -181,8 +190,8 @@ def _without_digits(
     if len(texts) <= 48:
         if any(ch.isdigit() for t in texts for ch in t):
             return None
-    elif pc.any(pc.match_substring_regex(pa.array(texts, pa.string()), r"\d")).as_py():
-        return None
+    elif any(_DIGIT.search(t) for t in texts[:64]) or _any_digit(distinct_arrow(column)):
+        return None  # a date column shows a digit in its first few values: no full search
     cells = np.bincount(codes, minlength=len(texts))
     first = np.full(len(texts), -1, dtype=np.int64)
     first[codes[::-1]] = np.arange(len(codes))[::-1]
@@ -220,6 +229,26 @@ def _without_digits(
         suggestions=(sug,),
         summary=f"0% date-like · no dates read · 0/{total} parsed · {total} failed",
     )
+
+
+_HELPERS: ThreadPoolExecutor | None = None
+_HELPERS_LOCK = threading.Lock()
+
+
+def _helpers() -> ThreadPoolExecutor:
+    """Threads for work a column's scan runs beside its census (created on first use)."""
+    global _HELPERS
+    with _HELPERS_LOCK:
+        if _HELPERS is None:
+            _HELPERS = ThreadPoolExecutor(max_workers=2, thread_name_prefix="datemend-scan")
+        return _HELPERS
+
+
+_DIGIT = re.compile("[0-9]")  # RE2's \d: ASCII digits only
+
+
+def _any_digit(texts: pa.Array) -> bool:
+    return bool(pc.any(pc.match_substring_regex(texts, r"\d")).as_py())
 
 
 def _kind_counts(column: RawColumn) -> np.ndarray:

@@ -77,6 +77,10 @@ def normalise(texts: pa.Array) -> pa.Array:
 
 
 def _normalise_messy(t: pa.Array) -> pa.Array:
+    def letters(regex: str) -> str:  # every step keeps ASCII texts ASCII
+        return _fields._ascii_letters(regex) if ascii_only else regex
+
+    ascii_only = _fields.all_ascii(t)
     t = pc.replace_substring_regex(t, _SPACES, " ")
     t = pc.utf8_trim(t, _EDGE)
     t = pc.utf8_rtrim(t, ".")
@@ -87,10 +91,12 @@ def _normalise_messy(t: pa.Array) -> pa.Array:
     # "25 märz 23. 9:36": a day's ordinal dot where the year would stand says 23 is a day and
     # 25 a two-digit year; no pattern reads that order, so it is kept unread, not taken as
     # 25 March 2023 (the doubled dot matches nothing).
-    t = pc.replace_substring_regex(t, r"(\pL) (0?[1-9]|[12]\d|3[01])\. (\d)", r"\1 \2.. \3")
+    t = pc.replace_substring_regex(
+        t, letters(r"(\pL) (0?[1-9]|[12]\d|3[01])\. (\d)"), r"\1 \2.. \3"
+    )
     t = pc.replace_substring_regex(t, r"(\d)\. ", r"\1 ")  # German ordinal dot: "12. März"
-    t = pc.replace_substring_regex(t, r"(\pL)\.", r"\1 ")  # abbreviation dots: "févr."
-    t = pc.replace_substring_regex(t, r"(\pL),", r"\1 ")
+    t = pc.replace_substring_regex(t, letters(r"(\pL)\."), r"\1 ")  # abbreviation dots: "févr."
+    t = pc.replace_substring_regex(t, letters(r"(\pL),"), r"\1 ")
     t = pc.replace_substring_regex(t, r",( |$)", r" ")
     for _ in range(2):
         t = pc.replace_substring_regex(t, _FILLER, r"\1")
@@ -485,6 +491,8 @@ def _rival_labels(
 
 
 def _take(out: TextResult, rows: np.ndarray, r: Reading, ks: np.ndarray) -> None:
+    # Without reasons (the scan's parse) every sentence of ``r`` is None: none is copied.
+    explain = _fields._explaining()
     done = r.ok | r.ambiguous
     at = rows[done]
     out.value[at] = r.value[done].view("datetime64[us]")
@@ -493,17 +501,20 @@ def _take(out: TextResult, rows: np.ndarray, r: Reading, ks: np.ndarray) -> None
     out.timed[at] = r.timed[done]
     out.state[at] = np.where(r.ok[done], CellState.PARSED, CellState.AMBIGUOUS)
     out.pattern[at] = ks[done]
-    out.reason[at] = np.where(r.ok[done], None, r.reason[done])
+    if explain:
+        out.reason[at] = np.where(r.ok[done], None, r.reason[done])
     amb_at = rows[r.ambiguous]
     out.value[amb_at] = np.datetime64("NaT")
     out.has_time[amb_at] = False
-    out.order[rows[r.matched]] = r.order[r.matched]
-    out.two_digit[rows[r.matched]] = r.two_digit[r.matched]
-    out.year[rows[r.matched]] = r.year[r.matched]
+    seen = rows[r.matched]
+    out.order[seen] = r.order[r.matched]
+    out.two_digit[seen] = r.two_digit[r.matched]
+    out.year[seen] = r.year[r.matched]
     # Shape matched but the value is impossible: keep the first such reason.
     failed = r.matched & ~done
     first = failed & (out.pattern[rows] < 0)
-    out.reason[rows[first]] = r.reason[first]
+    if explain:
+        out.reason[rows[first]] = r.reason[first]
     out.pattern[rows[first]] = ks[first]
 
 
@@ -605,6 +616,44 @@ def _numbers_text(values: np.ndarray) -> np.ndarray:
     return np.array([_num_text(v) for v in values], dtype=object)
 
 
+#: Whole numbers up to this size are exact as float64 (IEEE 754 binary64: 53-bit significand).
+_EXACT_WHOLE = 2**53
+
+
+def _factorize_numbers(values: np.ndarray, kinds: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(code of each, distinct numbers as text) of number cells, equal numbers (3 and 3.0)
+    coded alike, in order of first appearance. The numbers are hashed as float64 when that is
+    exact (every whole-number cell within ±2**53); otherwise as Python objects."""
+    nums: np.ndarray | None
+    try:
+        nums = np.asarray(values, dtype=np.float64)
+        whole = kinds == CellKind.INT
+        if whole.any():
+            ints = np.asarray(values[whole], dtype=np.int64)
+            if ((ints > _EXACT_WHOLE) | (ints < -_EXACT_WHOLE)).any():
+                nums = None
+    except (OverflowError, TypeError, ValueError):  # beyond 64 bits, or not numbers
+        nums = None
+    if nums is None:
+        codes, objs = pd.factorize(values, use_na_sentinel=False)
+        return codes, _numbers_text(objs)
+    codes, uniq = pd.factorize(nums, use_na_sentinel=False)
+    return codes, _floats_text(uniq)
+
+
+def _floats_text(values: np.ndarray) -> np.ndarray:
+    """float64 numbers as ``_num_text`` writes them: whole ones as integers (by Arrow, in one
+    pass), others as Python's shortest round-trip repr."""
+    out = np.empty(len(values), dtype=object)
+    whole = np.isfinite(values) & (np.floor(values) == values) & (np.abs(values) < 2.0**63)
+    if whole.any():
+        ints = pa.array(values[whole].astype(np.int64))
+        out[whole] = pc.cast(ints, pa.string()).to_numpy(zero_copy_only=False)
+    rest = np.flatnonzero(~whole)
+    out[rest] = [_num_text(float(v)) for v in values[rest]]
+    return out
+
+
 def _num_text(v: object) -> str:
     if isinstance(v, float):
         return str(int(v)) if v.is_integer() else repr(v)
@@ -642,21 +691,23 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         arrow = dictionary.cast(pa.string())  # a large_string column: the engine's own type
     else:
         numeric = NUMBER_KIND[kinds]
-        code_at = np.full(len(column), -1, dtype=np.int64)
+        small = len(column) < 2**31  # codes kept for the column's life: int32 when they fit
+        code_type = np.int32 if small else np.int64
+        code_at = np.full(len(column), -1, dtype=code_type)
         uniques = np.zeros(0, dtype=object)
         text_cells = textual & ~numeric
         if text_cells.any():
             code_at, uniques, arrow = _encode_objects(column.values, ~text_cells)
         if numeric.any():
             at = np.flatnonzero(numeric)
-            codes, nums = pd.factorize(column.values[at])
-            code_at = code_at.astype(np.int64)  # a writable copy (Arrow's codes are not)
+            codes, texts = _factorize_numbers(column.values[at], kinds[at])
+            code_at = code_at.astype(code_type)  # a writable copy (Arrow's codes are not)
             code_at[at] = codes + len(uniques)
-            texts = _numbers_text(nums)
             uniques = np.concatenate([uniques, texts])
             if arrow is not None:
                 arrow = pa.concat_arrays([arrow.cast(pa.string()), pa.array(texts, pa.string())])
-        out = (rows, code_at[rows], uniques)
+        # every cell text or number (no blanks, no date cells): the codes are the cells'
+        out = (rows, code_at if len(rows) == len(column) else code_at[rows], uniques)
     if len(column) < 2**31:  # kept for the column's life: half the memory of int64
         out = (out[0].astype(np.int32, copy=False), out[1].astype(np.int32, copy=False), out[2])
     _DISTINCT[column] = out
@@ -737,38 +788,42 @@ def parse_column(
     """
     n = len(column)
     kinds = column.kinds
-    value = np.full(n, np.datetime64("NaT"), dtype="datetime64[us]")
-    offset = np.full(n, NAIVE, dtype=np.int32)
-    has_time = np.zeros(n, dtype=bool)
-    state = np.full(n, CellState.BLANK, dtype=np.int8)
-    pat = np.full(n, -1, dtype=np.int16)
+    nat = np.datetime64("NaT")
+    blank = (  # per array: (type, value of a cell with no text)
+        ("datetime64[us]", nat),
+        (np.int32, NAIVE),
+        (bool, False),
+        (np.int8, CellState.BLANK),
+        (np.int16, -1),
+    )
     reason = np.full(n, None, dtype=object)
     patterns = tuple(spec.patterns)
     rows, codes, uniques = distinct_texts(column)
-    if len(rows):
+    if not len(rows):
+        value, offset, has_time, state, pat = (np.full(n, fill, dtype=typ) for typ, fill in blank)
+    else:
         res = _RESULTS.get(column, {}).get(spec)
         if res is None or len(res.state) != len(uniques):
             res = parse_texts(uniques, spec)
             _apply_zone(res, spec)
-        if len(rows) == n:  # every cell is text: gather straight into new arrays
-            value = res.value.astype(value.dtype, copy=False)[codes]
-            offset = res.offset.astype(offset.dtype, copy=False)[codes]
-            has_time = res.has_time.astype(bool, copy=False)[codes]
-            state = res.state.astype(state.dtype, copy=False)[codes]
-            pat = res.pattern.astype(pat.dtype, copy=False)[codes]
-        else:
-            value[rows] = res.value[codes]
-            offset[rows] = res.offset[codes]
-            has_time[rows] = res.has_time[codes]
-            state[rows] = res.state[codes]
-            pat[rows] = res.pattern[codes]
+        if len(rows) == n:  # every cell is text
+            at = codes
+        else:  # the code of every cell, -1 where no text: -1 takes the blank put last
+            at = np.full(n, -1, dtype=codes.dtype)
+            at[rows] = codes
+        # one gather per array (cheaper than a gather and a scatter to the text cells)
+        per_text = (res.value, res.offset, res.has_time, res.state, res.pattern)
+        value, offset, has_time, state, pat = (
+            _gather(arr, typ, fill, at) for arr, (typ, fill) in zip(per_text, blank, strict=True)
+        )
         # reasons are Python objects: copy only those there are (most cells read have none)
         said = np.not_equal(res.reason, None)
         if said.any():
             hit = said[codes]
             reason[rows[hit]] = res.reason[codes[hit]]
-    dated = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
-    if dated.any():
+    count = np.bincount(kinds, minlength=len(CellKind))  # cells of each kind: one pass
+    if count[CellKind.DATE] or count[CellKind.DATETIME]:
+        dated = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
         if DATE_CELL not in patterns:
             patterns = (*patterns, DATE_CELL)
         _date_cells(column, dated, spec, value, offset, has_time, state, reason)
@@ -777,9 +832,10 @@ def parse_column(
         (CellKind.TIME, "a time-of-day cell with no date"),
         (CellKind.BOOL, "a true/false cell, not a date"),
     ):
-        hit = kinds == kind
-        state[hit] = CellState.FAILED
-        reason[hit] = why
+        if count[kind]:
+            hit = kinds == kind
+            state[hit] = CellState.FAILED
+            reason[hit] = why
     return ParsedColumn(
         source=column.name,
         value=value,
@@ -790,6 +846,14 @@ def parse_column(
         patterns=patterns,
         reason=reason,
     )
+
+
+def _gather(per_text: np.ndarray, typ: object, fill: object, at: np.ndarray) -> np.ndarray:
+    """``per_text[at]`` as ``typ``, where code -1 gives ``fill`` (a cell with no text)."""
+    ext = np.empty(len(per_text) + 1, dtype=typ)
+    ext[:-1] = per_text
+    ext[-1] = fill
+    return np.take(ext, at, mode="wrap")
 
 
 def _date_cells(

@@ -58,3 +58,40 @@ def test_split_extraction_equals_re2_extraction(seed):
         valid = want.is_valid()
         for name in (f.name for f in want.type):
             assert got.filter(valid).field(name).equals(want.filter(valid).field(name)), rx
+
+
+def _timed_texts(seed: int, n: int = 3000) -> pa.Array:
+    """Dates of every numeric and ISO shape, some with a time and a zone after them."""
+    rng = random.Random(seed)
+    out = []
+    for _ in range(n):
+        y, m, d = rng.randint(1900, 2099), rng.randint(1, 12), rng.randint(1, 28)
+        date = rng.choice(
+            [f"{y}-{m:02d}-{d:02d}", f"{m}/{d}/{y}", f"{d}.{m}.{y % 100:02d}", f"{y}/{m}/{d}",
+             f"{y % 100:02d}-{m}-{d}", f"{d} {m} {y}", f"{y}-w{m:02d}-{d % 7 + 1}"]
+        )  # fmt: skip
+        tail = rng.choice(["", "", f"t{m:02d}:{d:02d}", f" {m}:{d:02d} pm", f" {m:02d}:00z",
+                           "t10:00:00.5+02:00", " utc", "x"])  # fmt: skip
+        out.append(date + tail)
+    return pa.array(out, pa.string())
+
+
+@pytest.mark.parametrize("seed", [21, 22])
+def test_a_text_of_the_full_shape_begins_as_the_simple_shape(seed):
+    # the reader tries the full shape (time and zone) only on texts that begin as the simple
+    # shape; RE2 itself (pyarrow.compute) says which texts the full shape matches
+    from datemend.core.fields import _begins
+
+    texts = _timed_texts(seed)
+    tried = 0
+    for pid in PATTERNS:
+        p = pattern(pid)
+        if not p.simple:
+            continue
+        full = pc.match_substring_regex(texts, p.shape).to_numpy(zero_copy_only=False)
+        begins = _begins(texts, p.simple[:-1])
+        assert not (full & ~begins).any(), pid
+        small = texts.slice(0, 40)  # the Python path for a handful of texts
+        assert (_begins(small, p.simple[:-1]) == begins[:40]).all(), pid
+        tried += int(full.sum() > 0)
+    assert tried >= 6

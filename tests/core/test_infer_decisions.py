@@ -620,3 +620,24 @@ def test_two_digit_year_century_is_never_a_silent_guess(
     else:
         assert parsed.state[1] == CellState.PARSED, f"{why}: {parsed.reason[1]}"
         assert parsed.value[1] == np.datetime64(want, "us"), why
+
+
+def test_plausible_years_include_both_end_years_and_nothing_past_them() -> None:
+    # YYYYMMDD texts inside 1920–2076 are taken; one a day outside is also read as epoch
+    # seconds (8 digits, 1970: datetime.fromtimestamp), so it is AMBIGUOUS, never taken.
+    from datemend.core.spec import ParseSpec
+
+    texts = ["19191231", "19200101", "20761231", "20770101"]
+    spec = ParseSpec(
+        patterns=("compact-ymd",),
+        plausible=(("compact-ymd", 1920, 2076),),
+        alternates=("epoch-s",),
+    )
+    parsed = parse_column(RawColumn("c", np.array(texts, dtype=object), kinds_of(texts)), spec)
+    assert parsed.state.tolist() == [
+        CellState.AMBIGUOUS, CellState.PARSED, CellState.PARSED, CellState.AMBIGUOUS
+    ]  # fmt: skip
+    assert parsed.value[1] == np.datetime64("1920-01-01", "us")
+    assert parsed.value[2] == np.datetime64("2076-12-31", "us")
+    epoch = dt.datetime.fromtimestamp(19191231, dt.UTC).strftime("%Y-%m-%dT%H:%M:%S")
+    assert epoch in parsed.reason[0] and "1919-12-31" in parsed.reason[0]

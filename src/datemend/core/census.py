@@ -21,6 +21,7 @@ from .parse import (
     _apply_zone,
     distinct_arrow,
     distinct_texts,
+    fold_texts,
     normalise,
     parse_texts,
 )
@@ -163,6 +164,7 @@ class Census:
     feats: dict | None = None
     ref_year: int = 2100
     arrow: pa.Array | None = None  # the texts as an Arrow array
+    folded: pa.Array | None = None  # the texts trimmed and lower-cased (parse.fold_texts)
     #: cells and first cell of every distinct value of the column (not only the sampled ones)
     all_cells: np.ndarray | None = None
     all_first: np.ndarray | None = None
@@ -264,7 +266,7 @@ def prepare_full(column: RawColumn) -> FullPrep:
     feats = features(norm)
     for key in _AHEAD:
         feats[key]
-    return FullPrep(arrow, norm, feats, pc.utf8_trim_whitespace(pc.utf8_lower(arrow)))
+    return FullPrep(arrow, norm, feats, fold_texts(arrow))
 
 
 def top_by_weight(weights: np.ndarray, k: int) -> np.ndarray:
@@ -309,6 +311,7 @@ def full_view(c: Census, column: RawColumn, prep: FullPrep | None = None) -> Cen
         digit=feats["digits"],
         feats=feats,
         placeholder=placeholder,
+        folded=prep.folded,
         parsed_cache={},
         sample_note=None,
         readings={},
@@ -409,7 +412,7 @@ def parse_sample(c: Census, spec: ParseSpec) -> TextResult:
     if res is None:
         texts = c.arrow if c.arrow is not None else c.texts
         # reasons are written only for the values a report shows (or a parse asks for)
-        res = parse_texts(texts, spec, norm=c.norm, feats=c.feats, explain=False)
+        res = parse_texts(texts, spec, norm=c.norm, feats=c.feats, folded=c.folded, explain=False)
         _apply_zone(res, spec)
         c.parsed_cache[spec] = res
     return res

@@ -335,6 +335,17 @@ def _split_plan(regex: str) -> tuple[str, tuple[str, ...]] | None:
     return sep, tuple(names)
 
 
+def _begins(texts: pa.Array, regex: str) -> np.ndarray:
+    """Whether each text begins with a match of ``regex`` (anchored at the start by ``^``)."""
+    if len(texts) <= SMALL:
+        rx = _python_regex(regex)[0]
+        return np.array(
+            [t is not None and rx.match(t) is not None for t in texts.to_pylist()], dtype=bool
+        )
+    hit = pc.match_substring_regex(texts, letters_for(regex, texts)).fill_null(False)
+    return hit.to_numpy(zero_copy_only=False)
+
+
 def _extract_by_split(
     texts: pa.Array, regex: str, sep: str, names: tuple[str, ...]
 ) -> pa.StructArray:
@@ -407,6 +418,13 @@ def _read(
         rest = ci[~v1]
         if len(rest) and len(rest) < len(ci):
             sub_texts = sub_texts.filter(pa.array(~v1))
+        if len(rest):
+            # The full shape is the simple one with a time and zone after it, so only a text
+            # that begins as the simple shape can match it: a quick test before extracting.
+            could = _begins(sub_texts, p.simple[:-1])
+            if not could.all():
+                rest = rest[could]
+                sub_texts = sub_texts.filter(pa.array(could))
     if len(rest):
         s2 = extract(sub_texts, p.shape)
         v2 = s2.is_valid().to_numpy(zero_copy_only=False)

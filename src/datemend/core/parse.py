@@ -187,16 +187,18 @@ def parse_texts(
     *,
     norm: pa.Array | None = None,
     feats: dict[str, np.ndarray] | None = None,
+    folded: pa.Array | None = None,
     explain: bool = True,
 ) -> TextResult:
-    """Parse texts (a sequence, numpy array or Arrow array of str) with ``spec``. ``norm`` and
-    ``feats`` (from ``normalise`` and ``fields.features``) may be passed when already known.
-    Without ``explain`` the reasons are written only when asked for (see ``TextResult``)."""
+    """Parse texts (a sequence, numpy array or Arrow array of str) with ``spec``. ``norm``,
+    ``feats`` (from ``normalise`` and ``fields.features``) and ``folded`` (the texts trimmed
+    and lower-cased, ``fold_texts``) may be passed when already known. Without ``explain``
+    the reasons are written only when asked for (see ``TextResult``)."""
     raw = _as_array(texts)
     before = _fields._explaining()
     _fields._LOCAL.explain = explain
     try:
-        out = _parse_texts(raw, spec, norm, feats)
+        out = _parse_texts(raw, spec, norm, feats, folded)
     finally:
         _fields._LOCAL.explain = before
     if not explain:
@@ -209,6 +211,7 @@ def _parse_texts(
     spec: ParseSpec,
     norm: pa.Array | None,
     feats: dict[str, np.ndarray] | None,
+    folded: pa.Array | None = None,
 ) -> TextResult:
     n = len(raw)
     out = _empty_result(n)
@@ -222,7 +225,8 @@ def _parse_texts(
     tokens = pa.array(sorted(folded_tokens), pa.string())
     blank = np.zeros(n, dtype=bool)
     if len(tokens):
-        folded = pc.utf8_trim_whitespace(pc.utf8_lower(raw))
+        if folded is None or len(folded) != n:
+            folded = fold_texts(raw)
         blank = pc.is_in(folded, value_set=tokens).to_numpy(zero_copy_only=False)
         bi = np.flatnonzero(blank)
         out.reason[bi] = [f'treated as blank: "{s}"' for s in raw.take(bi).to_pylist()]
@@ -239,8 +243,11 @@ def _parse_texts(
             break
         if pid == DATE_CELL or (pid in spec.rivals and rivals_done):
             continue
-        sub = norm.take(pa.array(remaining))
-        sub_feats = feats.subset(remaining, sub)
+        if len(remaining) == n:  # every text still unread: no copy
+            sub, sub_feats = norm, feats
+        else:
+            sub = norm.take(pa.array(remaining))
+            sub_feats = feats.subset(remaining, sub)
         if pid in spec.rivals:
             rivals_done = True
             r, ks = _read_rivals(sub, sub_feats, spec)
@@ -257,6 +264,11 @@ def _parse_texts(
     return out
 
 
+def fold_texts(texts: pa.Array) -> pa.Array:
+    """Texts lower-cased and trimmed of white space, as blank tokens are compared."""
+    return pc.utf8_trim_whitespace(pc.utf8_lower(texts))
+
+
 #: Dates written on purpose to mean "no date": a number reading them keeps its reading.
 _SENTINELS = np.array(
     ["1899-12-30", "1899-12-31", "1900-01-01", "1970-01-01", "9999-12-31"], dtype="datetime64[us]"
@@ -269,15 +281,24 @@ _NAT = np.iinfo(np.int64).min  # NaT as an int64 datetime64 value
 def _doubt_numbers(out: TextResult, norm: pa.Array, feats: _Features, spec: ParseSpec) -> None:
     """Numbers read outside their pattern's plausible years that another number reading also
     reads become AMBIGUOUS, with both readings in the reason (see ``ParseSpec.plausible``)."""
-    years = out.value.astype("datetime64[Y]").astype(np.int64) + 1970
+    # A year before ``lo`` or after ``hi``: a value before 1 January of ``lo`` or from
+    # 1 January of ``hi + 1`` on (compared as microseconds, no conversion to years).
+    value = out.value.view(np.int64)
+    parsed = out.state == CellState.PARSED
     doubt = np.zeros(len(out.state), dtype=bool)
     for pid, lo, hi in spec.plausible:
         if pid not in spec.patterns:
             continue
         k = spec.patterns.index(pid)
-        doubt |= (
-            (out.state == CellState.PARSED) & (out.pattern == k) & ((years < lo) | (years > hi))
+        first, after = (
+            _fields.days_from_civil(
+                np.array([lo, hi + 1]), np.ones(2, np.int64), np.ones(2, np.int64)
+            )
+            * _fields.US_PER_DAY
         )
+        doubt |= parsed & (out.pattern == k) & ((value < first) | (value >= after))
+    if not doubt.any():
+        return
     doubt &= ~np.isin(out.value, _SENTINELS)
     if not doubt.any():
         return

@@ -722,7 +722,7 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         if numeric.any():
             at = np.flatnonzero(numeric)
             codes, texts = _factorize_numbers(column.values[at], kinds[at])
-            code_at = code_at.astype(code_type)  # a writable copy (Arrow's codes are not)
+            code_at = code_at.astype(code_type, copy=False)  # writable (see _encode_objects)
             code_at[at] = codes + len(uniques)
             uniques = np.concatenate([uniques, texts])
             if arrow is not None:
@@ -778,8 +778,17 @@ def _encode_objects(
     except (pa.ArrowException, TypeError, ValueError, UnicodeError):
         arr = None
     if arr is not None and arr.null_count == int(skip.sum()):
-        codes, dictionary = _encode_arrow(arr)
-        return codes, _as_objects(dictionary), dictionary
+        enc = pc.dictionary_encode(arr)
+        # the codes as a writable numpy copy, -1 at the skipped cells (Arrow leaves its
+        # null slots' codes unspecified)
+        ix = enc.indices
+        width = ix.type.byte_width
+        codes = np.frombuffer(
+            ix.buffers()[1], dtype=f"<i{width}", count=len(ix), offset=ix.offset * width
+        )
+        codes = codes.astype(np.int32 if width <= 4 else np.int64)
+        codes[skip] = -1
+        return codes, _as_objects(enc.dictionary), enc.dictionary
     at = np.flatnonzero(~skip)
     codes, uniques = pd.factorize(values[at])
     if pd.api.types.infer_dtype(uniques, skipna=False) != "string":

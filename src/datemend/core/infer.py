@@ -21,7 +21,6 @@ from __future__ import annotations
 import datetime as _dt
 import os
 import re
-import threading
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
@@ -43,6 +42,7 @@ from .census import (
 from .evidence import choose_patterns, decide_century, decide_day_order, decide_zone
 from .parse import distinct_arrow, distinct_texts, remember
 from .patterns import PATTERNS, label
+from .pool import helpers
 from .progress import Progress
 from .report import CellNote, ColumnReport, Suggestion
 from .spec import ParseSpec
@@ -83,7 +83,7 @@ def scan_column(
     # kernels, which release Python's lock); a column of few distinct values needs none.
     ahead = None
     if len(distinct_texts(column)[2]) > SAMPLE:
-        ahead = _helpers().submit(prepare_full, column)
+        ahead = helpers().submit(prepare_full, column)
     # (after a Stop it finishes unused: a fraction of a second of Arrow work, no side effect)
     census = census_of(column, facts, sample=SAMPLE)
     check()
@@ -229,19 +229,6 @@ def _without_digits(
         suggestions=(sug,),
         summary=f"0% date-like · no dates read · 0/{total} parsed · {total} failed",
     )
-
-
-_HELPERS: ThreadPoolExecutor | None = None
-_HELPERS_LOCK = threading.Lock()
-
-
-def _helpers() -> ThreadPoolExecutor:
-    """Threads for work a column's scan runs beside its census (created on first use)."""
-    global _HELPERS
-    with _HELPERS_LOCK:
-        if _HELPERS is None:
-            _HELPERS = ThreadPoolExecutor(max_workers=2, thread_name_prefix="datemend-scan")
-        return _HELPERS
 
 
 _DIGIT = re.compile("[0-9]")  # RE2's \d: ASCII digits only

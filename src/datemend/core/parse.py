@@ -25,6 +25,8 @@ from __future__ import annotations
 
 import datetime as _dt
 import weakref
+from collections.abc import Callable
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -37,6 +39,7 @@ from .clean import NAIVE, CellState, ParsedColumn
 from .fields import EV_DMY, EV_MDY, Reading, _Features, features, read_pattern
 from .names import ORDINAL_SUFFIX_RE
 from .patterns import label, pattern
+from .pool import lend
 from .spec import ParseSpec
 from .table import CellKind, RawColumn, SourceFacts
 
@@ -688,6 +691,9 @@ TEXT_LIKE[[CellKind.TEXT, CellKind.INT, CellKind.FLOAT, CellKind.ERROR]] = True
 NUMBER_KIND = np.zeros(len(CellKind), dtype=bool)
 NUMBER_KIND[[CellKind.INT, CellKind.FLOAT]] = True
 
+#: Text-like cells that are no numbers (hashed as strings).
+TEXT_CELL = TEXT_LIKE & ~NUMBER_KIND
+
 _DISTINCT: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
 
 
@@ -700,36 +706,45 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
     if hit is not None:
         return hit
     kinds = column.kinds
-    textual = TEXT_LIKE[kinds]
-    rows = np.flatnonzero(textual)
+    n = len(column)
+    count = np.bincount(kinds, minlength=len(CellKind))  # cells of each kind: one pass
+    index_type = np.int32 if n < 2**31 else np.int64  # kept for the column's life
+    if int(count[TEXT_LIKE].sum()) == n:
+        rows = np.arange(n, dtype=index_type)
+    else:
+        rows = np.flatnonzero(TEXT_LIKE[kinds]).astype(index_type)
     arrow: pa.Array | None = None  # the distinct texts as Arrow, when hashing made them so
     if not len(rows):
         out = (rows.astype(np.int64), np.zeros(0, np.int64), np.zeros(0, dtype=object))
     elif column.arrow is not None:  # text cells only, held as Arrow strings
-        arr = column.arrow if len(rows) == len(column) else column.arrow.take(rows)
+        arr = column.arrow if len(rows) == n else column.arrow.take(rows)
         codes, dictionary = _encode_arrow(arr)
         out = (rows, codes, _as_objects(dictionary))
         arrow = dictionary.cast(pa.string())  # a large_string column: the engine's own type
     else:
-        numeric = NUMBER_KIND[kinds]
-        small = len(column) < 2**31  # codes kept for the column's life: int32 when they fit
-        code_type = np.int32 if small else np.int64
-        code_at = np.full(len(column), -1, dtype=code_type)
+        code_at = np.full(n, -1, dtype=index_type)
         uniques = np.zeros(0, dtype=object)
-        text_cells = textual & ~numeric
-        if text_cells.any():
-            code_at, uniques, arrow = _encode_objects(column.values, ~text_cells)
-        if numeric.any():
-            at = np.flatnonzero(numeric)
-            codes, texts = _factorize_numbers(column.values[at], kinds[at])
-            code_at = code_at.astype(code_type, copy=False)  # writable (see _encode_objects)
+        hashing = None
+        if count[TEXT_CELL].sum():
+            # Arrow hashes the text cells on a helper thread while the number cells are
+            # hashed here (Arrow's hashing releases Python's lock)
+            hashing = _encode_objects(column.values, ~TEXT_CELL[kinds], lend())
+        numbers = None
+        if count[NUMBER_KIND].sum():
+            at = np.flatnonzero(NUMBER_KIND[kinds])
+            numbers = (at, *_factorize_numbers(column.values[at], kinds[at]))
+        if hashing is not None:
+            code_at, uniques, arrow = hashing()
+        if numbers is not None:
+            at, codes, texts = numbers
+            code_at = code_at.astype(index_type, copy=False)  # writable (see _encode_objects)
             code_at[at] = codes + len(uniques)
             uniques = np.concatenate([uniques, texts])
             if arrow is not None:
                 arrow = pa.concat_arrays([arrow.cast(pa.string()), pa.array(texts, pa.string())])
         # every cell text or number (no blanks, no date cells): the codes are the cells'
-        out = (rows, code_at if len(rows) == len(column) else code_at[rows], uniques)
-    if len(column) < 2**31:  # kept for the column's life: half the memory of int64
+        out = (rows, code_at if len(rows) == n else code_at[rows], uniques)
+    if n < 2**31:
         out = (out[0].astype(np.int32, copy=False), out[1].astype(np.int32, copy=False), out[2])
     _DISTINCT[column] = out
     if arrow is not None:
@@ -766,36 +781,43 @@ def _as_objects(arr: pa.Array) -> np.ndarray:
 
 
 def _encode_objects(
-    values: np.ndarray, skip: np.ndarray
-) -> tuple[np.ndarray, np.ndarray, pa.Array | None]:
+    values: np.ndarray, skip: np.ndarray, pool: ThreadPoolExecutor | None = None
+) -> Callable[[], tuple[np.ndarray, np.ndarray, pa.Array | None]]:
     """As ``_encode_arrow`` (codes, distinct values as Python strings, and as Arrow when Arrow
     hashed them) for the cells of an object array not in ``skip`` (text cells): Arrow's
-    hashing is about twice as fast as pandas' on Python strings. Anything but strings there (an
-    error cell from a reader that gives no text) takes pandas' path; non-strings become text.
-    Skipped cells are coded -1."""
+    hashing is about twice as fast as pandas' on Python strings. The strings become Arrow
+    here; the hashing runs on ``pool``, and the call returned gives the result. Anything but
+    strings there (an error cell from a reader that gives no text) takes pandas' path;
+    non-strings become text. Skipped cells are coded -1. Without ``pool``, all in line."""
     try:
         arr = pa.array(values, pa.string(), mask=skip)
     except (pa.ArrowException, TypeError, ValueError, UnicodeError):
         arr = None
     if arr is not None and arr.null_count == int(skip.sum()):
-        enc = pc.dictionary_encode(arr)
-        # the codes as a writable numpy copy, -1 at the skipped cells (Arrow leaves its
-        # null slots' codes unspecified)
-        ix = enc.indices
-        width = ix.type.byte_width
-        codes = np.frombuffer(
-            ix.buffers()[1], dtype=f"<i{width}", count=len(ix), offset=ix.offset * width
-        )
-        codes = codes.astype(np.int32 if width <= 4 else np.int64)
-        codes[skip] = -1
-        return codes, _as_objects(enc.dictionary), enc.dictionary
+        job = pool.submit(pc.dictionary_encode, arr) if pool is not None else None
+        enc_now = pc.dictionary_encode(arr) if job is None else None
+
+        def done() -> tuple[np.ndarray, np.ndarray, pa.Array | None]:
+            enc = job.result() if job is not None else enc_now
+            # the codes as a writable numpy copy, -1 at the skipped cells (Arrow leaves its
+            # null slots' codes unspecified)
+            ix = enc.indices
+            width = ix.type.byte_width
+            data = ix.buffers()[1]
+            codes = np.frombuffer(data, f"<i{width}", count=len(ix), offset=ix.offset * width)
+            codes = codes.astype(np.int32 if width <= 4 else np.int64)
+            codes[skip] = -1
+            return codes, _as_objects(enc.dictionary), enc.dictionary
+
+        return done
     at = np.flatnonzero(~skip)
     codes, uniques = pd.factorize(values[at])
     if pd.api.types.infer_dtype(uniques, skipna=False) != "string":
         uniques = _numbers_text(uniques)
     code_at = np.full(len(values), -1, dtype=np.int64)
     code_at[at] = codes
-    return code_at, np.asarray(uniques, dtype=object), None
+    result = (code_at, np.asarray(uniques, dtype=object), None)
+    return lambda: result
 
 
 _RESULTS: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()

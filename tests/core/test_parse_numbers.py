@@ -180,3 +180,15 @@ def test_number_cells_are_coded_as_python_equality_codes_them(cells):
         want_codes.append(seen[key])
     assert codes.tolist() == want_codes
     assert list(texts) == want_texts
+
+
+def test_decimal_number_cells_keep_their_own_text():
+    # reference: Python's str() of a decimal.Decimal keeps its written digits ("1.10")
+    from decimal import Decimal
+
+    from datemend.core.parse import _factorize_numbers
+
+    values = np.array([Decimal("1.10"), Decimal("45000"), Decimal("1.10")], dtype=object)
+    codes, texts = _factorize_numbers(values, np.full(3, CellKind.FLOAT, dtype=np.int8))
+    assert codes.tolist() == [0, 1, 0]
+    assert list(texts) == ["1.10", "45000"]

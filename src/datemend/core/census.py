@@ -265,7 +265,7 @@ def prepare_full(column: RawColumn) -> FullPrep:
     norm = normalise(arrow)
     feats = features(norm)
     for key in _AHEAD:
-        feats[key]
+        feats[key]  # a feature is computed when first asked for: here, ahead
     return FullPrep(arrow, norm, feats, fold_texts(arrow))
 
 

@@ -648,11 +648,13 @@ def _factorize_numbers(values: np.ndarray, kinds: np.ndarray) -> tuple[np.ndarra
     """(code of each, distinct numbers as text) of number cells, equal numbers (3 and 3.0)
     coded alike, in order of first appearance. The numbers are hashed as float64 when that is
     exact (every whole-number cell within ±2**53); otherwise as Python objects."""
-    nums: np.ndarray | None
+    nums: np.ndarray | None = None
+    plain = pd.api.types.infer_dtype(values, skipna=False)  # ints and floats only (no Decimal)
     try:
-        nums = np.asarray(values, dtype=np.float64)
+        if plain in ("integer", "floating", "mixed-integer-float"):
+            nums = np.asarray(values, dtype=np.float64)
         whole = kinds == CellKind.INT
-        if whole.any():
+        if nums is not None and whole.any():
             ints = np.asarray(values[whole], dtype=np.int64)
             if ((ints > _EXACT_WHOLE) | (ints < -_EXACT_WHOLE)).any():
                 nums = None

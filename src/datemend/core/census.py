@@ -209,7 +209,7 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     readings = {
         pid: read_pattern(pattern(pid), norm, spec, feats, explain=False) for pid in spec.patterns
     }
-    count = np.bincount(kinds, minlength=len(CellKind))  # cells of each kind: one pass
+    count = column.kind_counts()
     n_dated = int(count[CellKind.DATE] + count[CellKind.DATETIME])
     examples: tuple[tuple[str, str], ...] = ()
     if n_dated:
@@ -366,13 +366,15 @@ def _languages(c: Census) -> tuple[str, ...]:
     return tuple(chosen) or ("en",)
 
 
+_PLACEHOLDER_SET = pa.array(sorted(PLACEHOLDERS), pa.string())
+
+
 def placeholders_of(c: Census) -> list[tuple[str, int]]:
     """Recurring tokens no pattern reads, suggested as blank (normalised text, cells)."""
     ok = np.zeros(len(c.texts), dtype=bool)
     for r in c.readings.values():
         ok |= r.ok | r.ambiguous
-    norm = np.asarray(c.norm.to_numpy(zero_copy_only=False), dtype=object)
-    known = np.isin(norm, list(PLACEHOLDERS))
+    known = pc.is_in(c.norm, value_set=_PLACEHOLDER_SET).to_numpy(zero_copy_only=False)
     has_digit = pc.match_substring_regex(c.norm, r"\d").to_numpy(zero_copy_only=False)
     length = pc.utf8_length(c.norm).to_numpy(zero_copy_only=False)
     recurring = ~has_digit & (c.cells >= 2) & (length <= 24)

@@ -73,7 +73,9 @@ def scan_column(
         raise ValueError(f'prefer_day_order must be "dmy", "mdy" or None, not {prefer_day_order!r}')
     facts = facts or SourceFacts()
     ref_year = reference_year or _dt.date.today().year
-    kinds = {k.name.lower(): int(c) for k, c in zip(CellKind, _kind_counts(column)) if c}
+    kinds = {
+        k.name.lower(): int(c) for k, c in zip(CellKind, column.kind_counts(), strict=True) if c
+    }
     check()
     quick = _without_digits(column, facts, kinds)
     if quick is not None:
@@ -236,10 +238,6 @@ _DIGIT = re.compile("[0-9]")  # RE2's \d: ASCII digits only
 
 def _any_digit(texts: pa.Array) -> bool:
     return bool(pc.any(pc.match_substring_regex(texts, r"\d")).as_py())
-
-
-def _kind_counts(column: RawColumn) -> np.ndarray:
-    return np.bincount(column.kinds.astype(np.int64), minlength=len(CellKind))
 
 
 def _alternatives(

@@ -709,7 +709,7 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         return hit
     kinds = column.kinds
     n = len(column)
-    count = np.bincount(kinds, minlength=len(CellKind))  # cells of each kind: one pass
+    count = column.kind_counts()
     index_type = np.int32 if n < 2**31 else np.int64  # kept for the column's life
     if int(count[TEXT_LIKE].sum()) == n:
         rows = np.arange(n, dtype=index_type)
@@ -724,7 +724,6 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         out = (rows, codes, _as_objects(dictionary))
         arrow = dictionary.cast(pa.string())  # a large_string column: the engine's own type
     else:
-        code_at = np.full(n, -1, dtype=index_type)
         uniques = np.zeros(0, dtype=object)
         hashing = None
         if count[TEXT_CELL].sum():
@@ -737,6 +736,8 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
             numbers = (at, *_factorize_numbers(column.values[at], kinds[at]))
         if hashing is not None:
             code_at, uniques, arrow = hashing()
+        else:
+            code_at = np.full(n, -1, dtype=index_type)
         if numbers is not None:
             at, codes, texts = numbers
             code_at = code_at.astype(index_type, copy=False)  # writable (see _encode_objects)
@@ -875,7 +876,7 @@ def parse_column(
         if said.any():
             hit = said[codes]
             reason[rows[hit]] = res.reason[codes[hit]]
-    count = np.bincount(kinds, minlength=len(CellKind))  # cells of each kind: one pass
+    count = column.kind_counts()
     if count[CellKind.DATE] or count[CellKind.DATETIME]:
         dated = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
         if DATE_CELL not in patterns:

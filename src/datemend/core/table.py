@@ -104,7 +104,7 @@ class RawColumn:
     A RawColumn never changes once made.
     """
 
-    __slots__ = ("__weakref__", "_arrow", "_values", "kinds", "name")
+    __slots__ = ("__weakref__", "_arrow", "_counts", "_values", "kinds", "name")
 
     name: str
     kinds: np.ndarray
@@ -129,6 +129,15 @@ class RawColumn:
         object.__setattr__(self, "kinds", kinds)
         object.__setattr__(self, "_arrow", arrow)
         object.__setattr__(self, "_values", values)
+        object.__setattr__(self, "_counts", None)
+
+    def kind_counts(self) -> np.ndarray:
+        """How many cells of each kind (indexed by ``CellKind``), counted once (read-only)."""
+        if self._counts is None:
+            counts = np.bincount(self.kinds, minlength=len(CellKind))
+            counts.setflags(write=False)
+            object.__setattr__(self, "_counts", counts)
+        return self._counts
 
     def __setattr__(self, key: str, value: object) -> None:
         raise AttributeError(f"a RawColumn never changes (tried to set {key!r})")

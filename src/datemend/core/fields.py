@@ -419,9 +419,11 @@ def _read(
         if len(rest) and len(rest) < len(ci):
             sub_texts = sub_texts.filter(pa.array(~v1))
         if len(rest):
-            # The full shape is the simple one with a time and zone after it, so only a text
-            # that begins as the simple shape can match it: a quick test before extracting.
-            could = _begins(sub_texts, p.simple[:-1])
+            # The full shape is the simple one with a time and zone after it, which begin
+            # with no digit ("t", a space, a zone or an offset sign), so only a text that
+            # begins as the simple shape followed by a non-digit can match it: a quick test
+            # before extracting.
+            could = _begins(sub_texts, p.simple[:-1] + r"(?:\D|$)")
             if not could.all():
                 rest = rest[could]
                 sub_texts = sub_texts.filter(pa.array(could))

@@ -60,30 +60,3 @@ def test_stop_ends_a_threaded_scan() -> None:
     with pytest.raises(Cancelled):
         scan(_table(), workers=2, progress=holder[0])
     assert seen.is_set()
-
-
-def test_helper_threads_do_their_own_hashing_in_line():
-    # A column hashed on a helper thread (as the scan's full view may ask) is hashed there,
-    # never queued behind the helpers, and gives what the main thread's hashing gives.
-    import numpy as np
-
-    from datemend.core.parse import distinct_texts
-    from datemend.core.pool import helpers, lend
-    from datemend.core.table import RawColumn, kinds_of
-
-    assert lend() is not None
-    assert helpers().submit(lend).result(timeout=10) is None
-
-    def column() -> RawColumn:
-        vals = np.empty(20_000, dtype=object)
-        vals[:] = [f"{1 + i % 12}/{1 + i % 28}/{1990 + i % 30}" if i % 5 else 40000 + i % 700
-                   for i in range(len(vals))]  # fmt: skip
-        return RawColumn("c", vals, kinds_of(vals))
-
-    # every helper busy with a column of its own: none may wait for another
-    jobs = [helpers().submit(distinct_texts, column()) for _ in range(4)]
-    here = distinct_texts(column())
-    for job in jobs:
-        rows, codes, uniq = job.result(timeout=60)
-        assert rows.tolist() == here[0].tolist() and codes.tolist() == here[1].tolist()
-        assert list(uniq) == list(here[2])

@@ -259,8 +259,7 @@ class FullPrep:
 
 
 def prepare_full(column: RawColumn) -> FullPrep:
-    """``FullPrep`` of a column. Pure Arrow kernels, which release Python's lock, so the scan
-    runs it on a thread while the census reads its sample."""
+    """``FullPrep`` of a column (Arrow kernels only)."""
     arrow = distinct_arrow(column)
     norm = normalise(arrow)
     feats = features(norm)

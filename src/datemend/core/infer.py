@@ -36,13 +36,11 @@ from .census import (
     number_window,
     parse_sample,
     placeholders_of,
-    prepare_full,
     unread_patterns,
 )
 from .evidence import choose_patterns, decide_century, decide_day_order, decide_zone
 from .parse import distinct_arrow, distinct_texts, remember
 from .patterns import PATTERNS, label
-from .pool import helpers
 from .progress import Progress
 from .report import CellNote, ColumnReport, Suggestion
 from .spec import ParseSpec
@@ -81,12 +79,6 @@ def scan_column(
     if quick is not None:
         return quick
     check()
-    # What the full view needs that no decision changes is made on a thread meanwhile (Arrow
-    # kernels, which release Python's lock); a column of few distinct values needs none.
-    ahead = None
-    if len(distinct_texts(column)[2]) > SAMPLE:
-        ahead = helpers().submit(prepare_full, column)
-    # (after a Stop it finishes unused: a fraction of a second of Arrow work, no side effect)
     census = census_of(column, facts, sample=SAMPLE)
     check()
     census.ref_year = ref_year
@@ -132,7 +124,7 @@ def scan_column(
     )
     warnings = [*warn_order, *zone_warn, *census.notes_warn, *census.notes]
     check()
-    full = full_view(census, column, ahead.result() if ahead is not None else None)
+    full = full_view(census, column)
     check()
     if full is not census:
         notes.append(

@@ -25,8 +25,6 @@ from __future__ import annotations
 
 import datetime as _dt
 import weakref
-from collections.abc import Callable
-from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -39,7 +37,6 @@ from .clean import NAIVE, CellState, ParsedColumn
 from .fields import EV_DMY, EV_MDY, Reading, _Features, features, read_pattern
 from .names import ORDINAL_SUFFIX_RE
 from .patterns import label, pattern
-from .pool import lend
 from .spec import ParseSpec
 from .table import CellKind, RawColumn, SourceFacts
 
@@ -725,17 +722,15 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         arrow = dictionary.cast(pa.string())  # a large_string column: the engine's own type
     else:
         uniques = np.zeros(0, dtype=object)
-        hashing = None
+        hashed = None
         if count[TEXT_CELL].sum():
-            # Arrow hashes the text cells on a helper thread while the number cells are
-            # hashed here (Arrow's hashing releases Python's lock)
-            hashing = _encode_objects(column.values, ~TEXT_CELL[kinds], lend())
+            hashed = _encode_objects(column.values, ~TEXT_CELL[kinds])
         numbers = None
         if count[NUMBER_KIND].sum():
             at = np.flatnonzero(NUMBER_KIND[kinds])
             numbers = (at, *_factorize_numbers(column.values[at], kinds[at]))
-        if hashing is not None:
-            code_at, uniques, arrow = hashing()
+        if hashed is not None:
+            code_at, uniques, arrow = hashed
         else:
             code_at = np.full(n, -1, dtype=index_type)
         if numbers is not None:
@@ -784,43 +779,35 @@ def _as_objects(arr: pa.Array) -> np.ndarray:
 
 
 def _encode_objects(
-    values: np.ndarray, skip: np.ndarray, pool: ThreadPoolExecutor | None = None
-) -> Callable[[], tuple[np.ndarray, np.ndarray, pa.Array | None]]:
+    values: np.ndarray, skip: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, pa.Array | None]:
     """As ``_encode_arrow`` (codes, distinct values as Python strings, and as Arrow when Arrow
     hashed them) for the cells of an object array not in ``skip`` (text cells): Arrow's
-    hashing is about twice as fast as pandas' on Python strings. The strings become Arrow
-    here; the hashing runs on ``pool``, and the call returned gives the result. Anything but
-    strings there (an error cell from a reader that gives no text) takes pandas' path;
-    non-strings become text. Skipped cells are coded -1. Without ``pool``, all in line."""
+    hashing is about twice as fast as pandas' on Python strings. Anything but strings there (an
+    error cell from a reader that gives no text) takes pandas' path; non-strings become text.
+    Skipped cells are coded -1."""
     try:
         arr = pa.array(values, pa.string(), mask=skip)
     except (pa.ArrowException, TypeError, ValueError, UnicodeError):
         arr = None
     if arr is not None and arr.null_count == int(skip.sum()):
-        job = pool.submit(pc.dictionary_encode, arr) if pool is not None else None
-        enc_now = pc.dictionary_encode(arr) if job is None else None
-
-        def done() -> tuple[np.ndarray, np.ndarray, pa.Array | None]:
-            enc = job.result() if job is not None else enc_now
-            # the codes as a writable numpy copy, -1 at the skipped cells (Arrow leaves its
-            # null slots' codes unspecified)
-            ix = enc.indices
-            width = ix.type.byte_width
-            data = ix.buffers()[1]
-            codes = np.frombuffer(data, f"<i{width}", count=len(ix), offset=ix.offset * width)
-            codes = codes.astype(np.int32 if width <= 4 else np.int64)
-            codes[skip] = -1
-            return codes, _as_objects(enc.dictionary), enc.dictionary
-
-        return done
+        enc = pc.dictionary_encode(arr)
+        # the codes as a writable numpy copy, -1 at the skipped cells (Arrow leaves its null
+        # slots' codes unspecified)
+        ix = enc.indices
+        width = ix.type.byte_width
+        data = ix.buffers()[1]
+        codes = np.frombuffer(data, f"<i{width}", count=len(ix), offset=ix.offset * width)
+        codes = codes.astype(np.int32 if width <= 4 else np.int64)
+        codes[skip] = -1
+        return codes, _as_objects(enc.dictionary), enc.dictionary
     at = np.flatnonzero(~skip)
     codes, uniques = pd.factorize(values[at])
     if pd.api.types.infer_dtype(uniques, skipna=False) != "string":
         uniques = _numbers_text(uniques)
     code_at = np.full(len(values), -1, dtype=np.int64)
     code_at[at] = codes
-    result = (code_at, np.asarray(uniques, dtype=object), None)
-    return lambda: result
+    return code_at, np.asarray(uniques, dtype=object), None
 
 
 _RESULTS: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()

@@ -242,11 +242,6 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     return c
 
 
-#: Features of every distinct value that ``prepare_full`` computes ahead (those of the
-#: numeric and ISO patterns most date columns use; others are computed when first needed).
-_AHEAD = ("digits", "slash", "dash", "dot", "space")
-
-
 @dataclass
 class FullPrep:
     """What ``full_view`` needs of every distinct value that no decision of the census
@@ -262,9 +257,7 @@ def prepare_full(column: RawColumn) -> FullPrep:
     """``FullPrep`` of a column (Arrow kernels only)."""
     arrow = distinct_arrow(column)
     norm = normalise(arrow)
-    feats = features(norm)
-    for key in _AHEAD:
-        feats[key]  # a feature is computed when first asked for: here, ahead
+    feats = features(norm)  # each feature is computed when first asked for
     return FullPrep(arrow, norm, feats, fold_texts(arrow))
 
 

@@ -13,7 +13,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from .clean import CellState
-from .fields import Reading, _Features, features, letters_for, read_pattern
+from .fields import Reading, features, letters_for, read_pattern
 from .names import LANGUAGES, month_languages
 from .parse import (
     DATE_CELL,
@@ -39,7 +39,6 @@ __all__ = [
     "number_window",
     "parse_sample",
     "placeholders_of",
-    "prepare_full",
     "top_by_weight",
     "unread_patterns",
 ]
@@ -242,25 +241,6 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     return c
 
 
-@dataclass
-class FullPrep:
-    """What ``full_view`` needs of every distinct value that no decision of the census
-    changes: normalised texts, their features, and the texts trimmed and case-folded."""
-
-    arrow: pa.Array
-    norm: pa.Array
-    feats: _Features
-    folded: pa.Array
-
-
-def prepare_full(column: RawColumn) -> FullPrep:
-    """``FullPrep`` of a column (Arrow kernels only)."""
-    arrow = distinct_arrow(column)
-    norm = normalise(arrow)
-    feats = features(norm)  # each feature is computed when first asked for
-    return FullPrep(arrow, norm, feats, fold_texts(arrow))
-
-
 def top_by_weight(weights: np.ndarray, k: int) -> np.ndarray:
     """``np.argsort(-weights, kind="stable")[:k]`` (the k heaviest, ties in order of position)
     without sorting them all: the k-th largest weight is found by partition first."""
@@ -275,9 +255,8 @@ def top_by_weight(weights: np.ndarray, k: int) -> np.ndarray:
     return pick[np.argsort(-weights[pick], kind="stable")]
 
 
-def full_view(c: Census, column: RawColumn, prep: FullPrep | None = None) -> Census:
-    """The census over every distinct value (no readings): for exact counts of one spec.
-    ``prep``: ``prepare_full(column)``, when already made."""
+def full_view(c: Census, column: RawColumn) -> Census:
+    """The census over every distinct value (no readings): for exact counts of one spec."""
     if c.sample_note is None:
         return c
     rows_t, codes, texts = distinct_texts(column)
@@ -287,11 +266,12 @@ def full_view(c: Census, column: RawColumn, prep: FullPrep | None = None) -> Cen
         cells = np.bincount(codes, minlength=len(texts)).astype(np.int64)
         first = np.full(len(texts), -1, dtype=np.int64)
         first[codes[::-1]] = np.arange(len(codes))[::-1]
-    if prep is None or len(prep.arrow) != len(texts):
-        prep = prepare_full(column)
-    arrow, norm, feats = prep.arrow, prep.norm, prep.feats
+    arrow = distinct_arrow(column)
+    norm = normalise(arrow)
+    feats = features(norm)
+    folded = fold_texts(arrow)  # kept: the full parse compares blank tokens with it
     tokens = pa.array(list(c.blank_tokens), pa.string())
-    placeholder = pc.is_in(prep.folded, value_set=tokens).to_numpy(zero_copy_only=False)
+    placeholder = pc.is_in(folded, value_set=tokens).to_numpy(zero_copy_only=False)
     return replace(
         c,
         texts=texts,
@@ -303,7 +283,7 @@ def full_view(c: Census, column: RawColumn, prep: FullPrep | None = None) -> Cen
         digit=feats["digits"],
         feats=feats,
         placeholder=placeholder,
-        folded=prep.folded,
+        folded=folded,
         parsed_cache={},
         sample_note=None,
         readings={},

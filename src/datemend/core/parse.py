@@ -721,20 +721,13 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         out = (rows, codes, _as_objects(dictionary))
         arrow = dictionary.cast(pa.string())  # a large_string column: the engine's own type
     else:
-        uniques = np.zeros(0, dtype=object)
-        hashed = None
         if count[TEXT_CELL].sum():
-            hashed = _encode_objects(column.values, ~TEXT_CELL[kinds])
-        numbers = None
+            code_at, uniques, arrow = _encode_objects(column.values, ~TEXT_CELL[kinds])
+        else:
+            code_at, uniques = np.full(n, -1, dtype=index_type), np.zeros(0, dtype=object)
         if count[NUMBER_KIND].sum():
             at = np.flatnonzero(NUMBER_KIND[kinds])
-            numbers = (at, *_factorize_numbers(column.values[at], kinds[at]))
-        if hashed is not None:
-            code_at, uniques, arrow = hashed
-        else:
-            code_at = np.full(n, -1, dtype=index_type)
-        if numbers is not None:
-            at, codes, texts = numbers
+            codes, texts = _factorize_numbers(column.values[at], kinds[at])
             code_at = code_at.astype(index_type, copy=False)  # writable (see _encode_objects)
             code_at[at] = codes + len(uniques)
             uniques = np.concatenate([uniques, texts])

@@ -19,6 +19,7 @@ from .parse import (
     DATE_CELL,
     TextResult,
     _apply_zone,
+    cells_and_first,
     distinct_arrow,
     distinct_texts,
     fold_texts,
@@ -174,9 +175,7 @@ def census_of(column: RawColumn, facts: SourceFacts, *, sample: int) -> Census:
     kinds = column.kinds
     rows_t, codes, texts = distinct_texts(column)
     uniques = texts
-    weights = np.bincount(codes, minlength=len(uniques)).astype(np.int64)
-    first = np.full(len(uniques), -1, dtype=np.int64)
-    first[codes[::-1]] = np.arange(len(codes))[::-1]
+    weights, first = cells_and_first(codes, len(uniques))
     sel = np.arange(len(uniques))
     scale = np.ones(len(uniques))
     note = None
@@ -263,9 +262,7 @@ def full_view(c: Census, column: RawColumn) -> Census:
     if c.all_cells is not None and len(c.all_cells) == len(texts):
         cells, first = c.all_cells, c.all_first
     else:
-        cells = np.bincount(codes, minlength=len(texts)).astype(np.int64)
-        first = np.full(len(texts), -1, dtype=np.int64)
-        first[codes[::-1]] = np.arange(len(codes))[::-1]
+        cells, first = cells_and_first(codes, len(texts))
     arrow = distinct_arrow(column)
     norm = normalise(arrow)
     feats = features(norm)

@@ -39,7 +39,7 @@ from .census import (
     unread_patterns,
 )
 from .evidence import choose_patterns, decide_century, decide_day_order, decide_zone
-from .parse import distinct_arrow, distinct_texts, remember
+from .parse import cells_and_first, distinct_arrow, distinct_texts, remember
 from .patterns import PATTERNS, label
 from .progress import Progress
 from .report import CellNote, ColumnReport, Suggestion
@@ -186,9 +186,7 @@ def _without_digits(
             return None
     elif any(_DIGIT.search(t) for t in texts[:64]) or _any_digit(distinct_arrow(column)):
         return None  # a date column shows a digit in its first few values: no full search
-    cells = np.bincount(codes, minlength=len(texts))
-    first = np.full(len(texts), -1, dtype=np.int64)
-    first[codes[::-1]] = np.arange(len(codes))[::-1]
+    cells, first = cells_and_first(codes, len(texts))
     order = np.argsort(rows[first], kind="stable")[:20]
     start = facts.header_row + 1
     why = "no digit in it, so no date"

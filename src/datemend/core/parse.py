@@ -633,8 +633,13 @@ def _numbers_text(values: np.ndarray) -> np.ndarray:
         except OverflowError:  # beyond 64 bits: Python writes it
             ints = None
         if ints is not None:
-            return pc.cast(pa.array(ints), pa.string()).to_numpy(zero_copy_only=False)
+            return _ints_text(ints)
     return np.array([_num_text(v) for v in values], dtype=object)
+
+
+def _ints_text(ints: np.ndarray) -> np.ndarray:
+    """int64 numbers as Python's str() writes them, by Arrow in one pass."""
+    return pc.cast(pa.array(ints), pa.string()).to_numpy(zero_copy_only=False)
 
 
 #: Whole numbers up to this size are exact as float64 (IEEE 754 binary64: 53-bit significand).
@@ -670,8 +675,7 @@ def _floats_text(values: np.ndarray) -> np.ndarray:
     out = np.empty(len(values), dtype=object)
     whole = np.isfinite(values) & (np.floor(values) == values) & (np.abs(values) < 2.0**63)
     if whole.any():
-        ints = pa.array(values[whole].astype(np.int64))
-        out[whole] = pc.cast(ints, pa.string()).to_numpy(zero_copy_only=False)
+        out[whole] = _ints_text(values[whole].astype(np.int64))
     rest = np.flatnonzero(~whole)
     out[rest] = [_num_text(float(v)) for v in values[rest]]
     return out
@@ -744,6 +748,15 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
 
 
 _DISTINCT_ARROW: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
+def cells_and_first(codes: np.ndarray, k: int) -> tuple[np.ndarray, np.ndarray]:
+    """For codes 0…k-1 (``distinct_texts``' codes): how many cells each distinct text has, and
+    the position (among the codes) of its first cell; -1 for a text with none."""
+    cells = np.bincount(codes, minlength=k).astype(np.int64)
+    first = np.full(k, -1, dtype=np.int64)
+    first[codes[::-1]] = np.arange(len(codes))[::-1]  # the last write is the first cell
+    return cells, first
 
 
 def distinct_arrow(column: RawColumn) -> pa.Array:

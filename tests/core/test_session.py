@@ -356,3 +356,28 @@ def test_a_month_in_the_window_s_words(tmp_path):
     nov.accept_replay(report)
     assert nov.clean is report.table
     assert nov.undo_label == "Replay a fix log"
+
+
+def test_a_preview_records_nothing_and_is_what_the_reading_gives():
+    s = Session(_raw(), today=TODAY)
+    events: list[SessionEvent] = []
+    s.subscribe(events.append)
+    got = s.preview("Born", ISO)
+    assert len(s.log) == 0 and events == [] and "Born" not in s.clean.parsed
+    # Reference: datetime.date.fromisoformat (ISO 8601 calendar dates) for the two real dates.
+    want = [dt.date.fromisoformat("1970-01-02"), None, dt.date.fromisoformat("1985-04-12"), None]
+    days = got.value.astype("datetime64[D]")
+    shown = [None if np.isnat(d) else d.astype(dt.date) for d in days]
+    assert shown == want
+    assert list(got.state) == [CellState.PARSED, CellState.FAILED, CellState.PARSED,
+                               CellState.FAILED]  # fmt: skip
+    assert s.cached_preview("Born", ISO) is got  # kept: asking again costs nothing
+    assert s.preview("Born", ISO) is got
+    assert s.cached_preview("Joined", ISO) is None
+    assert s.cached_preview("Born", ParseSpec(patterns=("iso-week",))) is None
+    s.use_suggestion("Born", ISO, "ISO 8601")
+    used = s.clean.parsed["Born"]
+    assert np.array_equal(used.value, got.value, equal_nan=True)  # NaT where not read
+    assert np.array_equal(used.state, got.state)
+    s.set_table(_raw())  # another table: the kept preview is not of it
+    assert s.cached_preview("Born", ISO) is None

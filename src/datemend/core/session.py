@@ -90,7 +90,8 @@ class Session:
     """The open document.
 
     Reading: ``raw``, ``log``, ``clean`` (the log applied to ``raw``), ``report(column)`` (scanned
-    on first use, cached), ``can_undo``/``can_redo``/``undo_label``/``redo_label``.
+    on first use, cached), ``preview(column, spec)`` (what a reading would give, recording
+    nothing), ``can_undo``/``can_redo``/``undo_label``/``redo_label``.
 
     Log edits (each one undo step, grouped with ``with session.group("label"):``): ``add_step``,
     ``remove_step``, ``set_enabled``, ``move_step``, ``replace_step``, ``set_log``,
@@ -125,6 +126,8 @@ class Session:
         self.reference_year = reference_year
         self.auto_apply = auto_apply
         self._reports: dict[str, ColumnReport] = {}
+        # the last preview: (table, column, spec, what reading the column with spec gives)
+        self._preview: tuple[RawTable, str, ParseSpec, ParsedColumn] | None = None
         self._undo: list[_Atom] = []
         self._redo: list[_Atom] = []
         self._group: list[_Atom] | None = None
@@ -194,6 +197,27 @@ class Session:
         if new:
             self._emit(SessionEvent("reports", tuple(new)))
         return [self._reports[n] for n in names]
+
+    def preview(self, column: str, spec: ParseSpec) -> ParsedColumn:
+        """What reading ``column`` with ``spec`` gives (what ``use_suggestion`` would record),
+        without recording anything: each cell's date shown before a reading is used. The last
+        preview is kept, so asking for the same one again costs nothing."""
+        hit = self.cached_preview(column, spec)
+        if hit is not None:
+            return hit
+        from .parse import parse_column
+
+        raw = self._raw
+        parsed = parse_column(raw.column(column), spec, raw.facts)
+        self._preview = (raw, column, spec, parsed)
+        return parsed
+
+    def cached_preview(self, column: str, spec: ParseSpec) -> ParsedColumn | None:
+        """The kept preview if it is of ``column`` read with ``spec`` in this table, else None."""
+        hit = self._preview
+        if hit is not None and hit[0] is self._raw and hit[1] == column and hit[2] == spec:
+            return hit[3]
+        return None
 
     def cells_changed(self, index: int) -> int | None:
         """How many parsed cells the entry at ``index`` changed (None if not computed)."""

@@ -150,6 +150,73 @@ def test_open_october_pick_column_apply_reading_by_click(qtbot, window, qtmodelt
 
 
 @needs_samples
+def test_cells_show_a_preview_of_the_first_reading_before_it_is_used(qtbot, window):
+    """Each raw value beside the date it becomes, as soon as the file is open; nothing is
+    recorded until the reading is used, and using it shows the same dates."""
+    with qtbot.waitSignal(window.document_ready, timeout=30_000):
+        window.open_file(OCTOBER)
+    s, m = window.session, window.cells.model
+    for column in ("Born", "Joined"):
+        window.columns.choose(column)
+        assert m.previewing
+        assert m.headerData(m.column_of(Column.READS), Qt.Orientation.Horizontal) == (
+            "Reads as (preview)"
+        )
+        assert "preview" in window.cells.title.text()
+        assert len(s.log.entries) == 0  # nothing recorded
+        truth = truth_of("2026-10", column)
+        shown = reads_as(window)
+        read = {k: v for k, (v, state) in shown.items() if state.startswith("✓")}
+        assert len(read) > 200  # most of 300 rows read
+        wrong = {k: (v, truth[k]) for k, v in read.items() if v != truth[k]}
+        assert wrong == {}, "a previewed date must be the cell's true date (truth.json)"
+        idx = m.index(0, m.column_of(Column.READS))
+        assert not m.flags(idx) & Qt.ItemFlag.ItemIsEditable  # no hand set on a preview
+        assert m.data(idx, Qt.ItemDataRole.FontRole).italic()
+    before = reads_as(window)
+    click_first_reading(qtbot, window)
+    assert not m.previewing
+    assert m.headerData(m.column_of(Column.READS), Qt.Orientation.Horizontal) == "Reads as"
+    assert "preview" not in window.cells.title.text()
+    assert len(s.log.entries) == 1
+    assert reads_as(window) == before  # the preview was what the reading gives
+
+
+def test_the_preview_follows_the_choices_and_records_nothing(qtbot, window, small_csv):
+    s = adopt(window, small_csv)
+    window.columns.choose("Joined")
+    # Day first (14/02/2021 decides it); reference: datetime.strptime.
+    assert reads_as(window)["R001"] == (
+        dt.datetime.strptime("03/10/2019", "%d/%m/%Y").date().isoformat(),
+        "✓ read",
+    )
+    r = window.readings
+    r.day_order.setCurrentIndex(r.day_order.findData("mdy"))
+    shown = reads_as(window)
+    assert shown["R001"] == (
+        dt.datetime.strptime("03/10/2019", "%m/%d/%Y").date().isoformat(),
+        "✓ read",
+    )
+    assert shown["R002"][1] == "✗ not read"  # no month 14
+    assert len(s.log.entries) == 0
+    assert window.cells.model.previewing
+
+
+def test_a_big_column_works_out_its_preview_in_a_job(qtbot, window, small_csv):
+    window.preview_in_thread_rows = 0  # treat every column as big
+    with qtbot.waitSignal(window.job_started, timeout=5000) as started:
+        s = adopt(window, small_csv)  # shows the first date column, "Joined"
+    assert window.column == "Joined"
+    assert not window.cells.model.previewing  # not until the job is done
+    done = [started.args[0].ended, window.cells.model.rows_changed]
+    with qtbot.waitSignals(done, timeout=10_000):
+        pass
+    assert window.cells.model.previewing
+    assert reads_as(window)["R002"] == ("2021-02-14", "✓ read")  # 14/02/2021, day first
+    assert len(s.log.entries) == 0
+
+
+@needs_samples
 def test_replay_october_log_on_november_shows_drift_then_problems_first(
     qtbot, window, tmp_path, monkeypatch
 ):

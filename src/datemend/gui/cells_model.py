@@ -22,7 +22,7 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pa_compute
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt, Signal
-from PySide6.QtGui import QColor
+from PySide6.QtGui import QColor, QFont
 
 from ..core.clean import NAIVE, CellState, ParsedColumn
 from ..core.table import CellKind, RawColumn
@@ -50,13 +50,16 @@ COLUMNS: tuple[Column, ...] = tuple(Column)
 _R = Qt.ItemDataRole
 _DISPLAY, _EDIT, _USER = int(_R.DisplayRole.value), int(_R.EditRole.value), int(_R.UserRole.value)
 _TOOLTIP, _FOREGROUND = int(_R.ToolTipRole.value), int(_R.ForegroundRole.value)
-_ACCESSIBLE = int(_R.AccessibleTextRole.value)
-_ROLES_USED = frozenset({_DISPLAY, _EDIT, _USER, _TOOLTIP, _FOREGROUND, _ACCESSIBLE})
+_ACCESSIBLE, _FONT = int(_R.AccessibleTextRole.value), int(_R.FontRole.value)
+_ROLES_USED = frozenset({_DISPLAY, _EDIT, _USER, _TOOLTIP, _FOREGROUND, _ACCESSIBLE, _FONT})
 _LOOKS = tuple(state_look(s) for s in sorted(CellState))  # indexed by the int8 state
 _STATE_COLOURS = tuple(QColor(look.colour) for look in _LOOKS)
 _MANUAL = int(CellState.MANUAL)
 _FLAGS_SHOWN = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable  # made once, not per call
 _FLAGS_EDIT = _FLAGS_SHOWN | Qt.ItemFlag.ItemIsEditable
+#: Columns that show a reading's result: in italics while it is only a preview.
+_READ_COLUMNS = frozenset({Column.READS, Column.STATE, Column.PATTERN, Column.NOTE})
+PREVIEW_HEADER = "Reads as (preview)"
 
 _HEADER_TIPS = {
     Column.ROW: "Row number in the file or sheet (the header is above the first).",
@@ -107,7 +110,9 @@ class RowFilter:
 
 @dataclass(frozen=True, eq=False)
 class CellsSource:
-    """What the model shows: a raw column, its parsed twin (or None), row numbers and keys."""
+    """What the model shows: a raw column, its parsed twin (or None), row numbers and keys.
+    With ``preview`` set, ``parsed`` is what a reading not used yet would give: shown in italics
+    under "Reads as (preview)", and not editable (nothing is in the fix log for it yet)."""
 
     raw: RawColumn
     parsed: ParsedColumn | None
@@ -115,6 +120,8 @@ class CellsSource:
     keys: np.ndarray | RawColumn | None = None  # the key of each row (a column, or values)
     key_name: str | None = None
     rule_hits: dict[str, np.ndarray] = field(default_factory=dict)  # rule label -> rows breaking it
+    #: set when ``parsed`` is only a preview (a reading not used yet): the reading's label
+    preview: str | None = None
 
     def problems(self) -> np.ndarray | None:
         """Rows needing a look: cells not read or unclear, and rows breaking a rule."""
@@ -239,6 +246,8 @@ class CellsModel(QAbstractTableModel):
         self._finder: FindIndex | None = None
         self._found: tuple[str, FindIndex, np.ndarray] | None = None  # needle, index, mask
         self._value_us = np.zeros(0, dtype=np.int64)
+        self._italic = QFont()
+        self._italic.setItalic(True)
 
     # -- what is shown ---------------------------------------------------------------------
     @property
@@ -396,6 +405,8 @@ class CellsModel(QAbstractTableModel):
                 col = self._columns[section]
                 if col is Column.KEY and self._source is not None and self._source.key_name:
                     return self._source.key_name
+                if col is Column.READS and self.previewing:
+                    return PREVIEW_HEADER
                 return col.value
             return None
         return None
@@ -407,9 +418,15 @@ class CellsModel(QAbstractTableModel):
             self._columns[index.column()] is Column.READS
             and self._source is not None
             and self._source.parsed is not None
+            and self._source.preview is None
         ):
             return _FLAGS_EDIT
         return _FLAGS_SHOWN
+
+    @property
+    def previewing(self) -> bool:
+        """Whether the cells shown are a preview of a reading not used yet."""
+        return self._source is not None and self._source.preview is not None
 
     def data(self, index: _Index, role: int = _DISPLAY) -> object:
         # Hot path (called for every visible cell and role): plain ints, no enum look-ups.
@@ -431,6 +448,8 @@ class CellsModel(QAbstractTableModel):
             return _space_hint(src.raw.value(r), int(src.raw.kinds[r]))
         if p is None:
             return None
+        if role == _FONT:
+            return self._italic if src.preview is not None and col in _READ_COLUMNS else None
         if role == _FOREGROUND:
             return _STATE_COLOURS[p.state[r]] if col is Column.STATE else None
         if role == _TOOLTIP:
@@ -439,6 +458,11 @@ class CellsModel(QAbstractTableModel):
             if col is Column.NOTE and p.reason[r]:
                 return str(p.reason[r])
             if col is Column.READS:
+                if src.preview is not None:
+                    return (
+                        f"Preview of the reading “{src.preview}”: nothing is recorded until you "
+                        "press Use this reading."
+                    )
                 return "Double-click to set this cell by hand (recorded in the fix log)."
             return None
         if role == _ACCESSIBLE and col is Column.STATE:
@@ -486,6 +510,7 @@ class CellsModel(QAbstractTableModel):
             or self._columns[index.column()] is not Column.READS
             or self._source is None
             or self._source.parsed is None
+            or self._source.preview is not None
         ):
             return False
         text = str(value).strip()

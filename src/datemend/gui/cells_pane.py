@@ -9,6 +9,7 @@ Signals:
 
 from __future__ import annotations
 
+import html
 from collections.abc import Callable
 
 import numpy as np
@@ -159,7 +160,19 @@ class CellsPane(QWidget):
             self.find.clear()
             self.find.blockSignals(False)
         self._fill_show_box(parsed, {} if source is None else source.rule_hits)
-        self.title.setText(f"<b>Cells</b> of “{source.raw.name}”" if source else "<b>Cells</b>")
+        title = f"<b>Cells</b> of “{html.escape(source.raw.name)}”" if source else "<b>Cells</b>"
+        chart_title = "<b>Date spread</b> — click a bar to see its rows"
+        if source is not None and source.preview is not None:
+            title += " — <i>preview of the first reading: not used yet</i>"
+            chart_title += " <i>(preview)</i>"
+        self.title.setText(title)
+        self.title.setToolTip(
+            "The dates shown are what the first reading in Readings gives, with the choices "
+            "there; nothing is in the fix log until you press Use this reading."
+            if source is not None and source.preview is not None
+            else ""
+        )
+        self.chart_title.setText(chart_title)
         self.chart.set_values(None if parsed is None else parsed.value)
         self.model.set_source(source, self._current_filter())
         self._fit_columns()

@@ -8,6 +8,7 @@ Signals:
     use_requested(object, str): a ParseSpec to record as the column's reading, and its label.
     blank_requested(object): a tuple of tokens to record as "treat as blank".
     problem(str): a choice cannot be used (one sentence, e.g. an unknown zone name).
+    choices_changed(): one of those choices changed (the Cells preview follows it).
 """
 
 from __future__ import annotations
@@ -53,6 +54,11 @@ _CHOICE_WORDS = {
     "date_system": "serial numbers",
     "zone": "zone",
 }
+
+
+def useful_readings(report: ColumnReport) -> list[Suggestion]:
+    """The readings the panel offers: those that read at least one cell, best first."""
+    return [s for s in report.suggestions if s.parsed > 0]
 
 
 def _e(text: object) -> str:
@@ -139,6 +145,7 @@ class ReadingsPanel(QWidget):
 
     use_requested = Signal(object, str)
     blank_requested = Signal(object)
+    choices_changed = Signal()
     problem = Signal(str)
 
     def __init__(self, parent: QWidget | None = None) -> None:
@@ -146,6 +153,7 @@ class ReadingsPanel(QWidget):
         self.setObjectName("readings")
         self.report: ColumnReport | None = None
         self.cards: list[_Card] = []
+        self._useful: list[Suggestion] = []
         self._tokens: tuple[str, ...] = ()
         self.summary = QLabel("Pick a column to see the ways it can be read.")
         self.summary.setWordWrap(True)
@@ -175,6 +183,11 @@ class ReadingsPanel(QWidget):
         self.zone.setToolTip(
             '"UTC" or an IANA zone name such as Europe/Paris; empty keeps offsets.'
         )
+
+        for box in (self.day_order, self.century, self.date_system):
+            box.currentIndexChanged.connect(lambda _i: self.choices_changed.emit())
+        self.pivot.valueChanged.connect(lambda _v: self.choices_changed.emit())
+        self.zone.editingFinished.connect(self.choices_changed.emit)
 
         choices = QFormLayout()
         choices.addRow("Day and month:", self.day_order)
@@ -217,6 +230,7 @@ class ReadingsPanel(QWidget):
             card.hide()  # at once: deleteLater alone leaves it painted under the new cards
             card.deleteLater()
         self.cards = []
+        self._useful = []
         if report is None:
             self.summary.setText("Pick a column to see the ways it can be read.")
             self.blank_button.setVisible(False)
@@ -243,7 +257,8 @@ class ReadingsPanel(QWidget):
         self.set_blank_state(read=False, blank=set())
         # A reading that reads no cell is no way to read the column: say so instead of a card
         # offering to "use" it (it would only turn the column's text to blank).
-        useful = [s for s in report.suggestions if s.parsed > 0]
+        useful = useful_readings(report)
+        self._useful = useful
         if not useful:
             self.summary.setText(
                 self.summary.text()
@@ -284,6 +299,18 @@ class ReadingsPanel(QWidget):
             _check_zone(zone)
             changes["zone"] = zone
         return dataclasses.replace(s.spec, **changes) if changes else s.spec
+
+    def preview(self) -> tuple[ParseSpec, str] | None:
+        """(spec, label) of the first reading with the choices laid over it: what *Use this
+        reading* on it would record, shown in Cells before anything is recorded. None when
+        there is no reading to use or a choice is not valid (an unknown zone)."""
+        if not self._useful:
+            return None
+        first = self._useful[0]
+        try:
+            return self.spec_for(first), first.label
+        except ValueError:
+            return None
 
     def _use(self, s: Suggestion) -> None:
         try:

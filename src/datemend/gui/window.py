@@ -22,7 +22,9 @@ from PySide6.QtCore import QSettings, Qt, Signal
 from PySide6.QtGui import QAction, QCloseEvent, QDragEnterEvent, QDropEvent, QIcon, QKeySequence
 from PySide6.QtWidgets import QLabel, QMainWindow, QMessageBox, QSplitter
 
+from ..core.clean import ParsedColumn
 from ..core.session import Session, SessionEvent
+from ..core.spec import ParseSpec
 from ..core.table import CellKind, RawColumn
 from .cells_model import CellsSource
 from .cells_pane import CellsPane
@@ -33,7 +35,7 @@ from .files import FileAsker, make_settings
 from .fixlog_panel import FixLogPanel, StepRow
 from .flows import FileFlows
 from .jobs import Job, JobBar
-from .readings import ReadingsPanel
+from .readings import ReadingsPanel, useful_readings
 
 __all__ = ["MainWindow"]
 
@@ -63,6 +65,10 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         self._unsubscribe: Any = None
         #: Tables with at least this many rows apply fix-log edits in a Job, off the GUI thread.
         self.apply_in_thread_rows = 200_000
+        #: Columns with at least this many rows work out their preview (the dates the first
+        #: reading gives, shown before it is used) in a Job.
+        self.preview_in_thread_rows = 200_000
+        self._preview_job: Job | None = None
         self.about_dialog: AboutDialog | None = None
         self.replay_dialog: ReplayDialog | None = None
         self.export_dialog: ExportDialog | None = None
@@ -103,6 +109,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         self.readings.use_requested.connect(self._use_reading)
         self.readings.blank_requested.connect(self._blank_tokens)
         self.readings.problem.connect(self.show_error)
+        self.readings.choices_changed.connect(lambda: self._show_cells(keep_filter=True))
         self.cells.hand_set_requested.connect(self._hand_set)
         self.cells.run_job = self.run_job
         self.fixlog.toggle_requested.connect(self._toggle_step)
@@ -287,6 +294,13 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
             session = Session(raw)
             session.scan_all(progress)
             progress.check()  # a Stop pressed during the last column still stops the open
+            first = _first_date_column(session)
+            if first is not None and first not in session.clean.parsed:
+                # the column shown first: its preview is ready when the window shows it
+                useful = useful_readings(session.report(first))
+                if useful:
+                    session.preview(first, useful[0].spec)
+                    progress.check()
             return session, sheets
 
         return self.run_job(
@@ -307,7 +321,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         self._remember(path)
         self.setWindowTitle(f"{session.raw.facts.where()} — datemend")
         self.columns.set_sheets(sheets, self.sheet)
-        first = self._first_date_column()
+        first = _first_date_column(session)
         self.column = None
         self._refresh_columns()
         self._refresh_log()
@@ -316,14 +330,6 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         if first is not None:
             self.columns.choose(first)
         self.document_ready.emit()
-
-    def _first_date_column(self) -> str | None:
-        s = self.session
-        assert s is not None
-        for name in s.raw.names:
-            if name in s.clean.parsed or s.report(name).is_date:
-                return name
-        return s.raw.names[0] if s.raw.names else None
 
     # ------------------------------------------------------------------ session events
     def _on_event(self, ev: SessionEvent) -> None:
@@ -425,15 +431,57 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
             if self.column in raw
             else _derived_as_raw(self.column, s.clean.derived[self.column].values)
         )
+        parsed = s.clean.parsed.get(self.column)
+        preview = None
+        if parsed is None and self.column in raw:
+            parsed, preview = self._preview_of(self.column)
         src = CellsSource(
             column,
-            s.clean.parsed.get(self.column),
+            parsed,
             raw.source_rows,
             keys,
             key,
             dict(s.clean.rule_hits),
+            preview,
         )
         self.cells.set_source(src, keep_filter=keep_filter)
+
+    def _preview_of(self, col: str) -> tuple[ParsedColumn | None, str | None]:
+        """(dates, label) of the first reading of a column not read yet, with the Readings
+        choices laid over it: worked out here for a small column; for a big one in a Job, and
+        shown when it is done. (None, None) meanwhile, or when there is no reading to use."""
+        s = self.session
+        report = self.readings.report
+        if s is None or report is None or report.column != col:
+            return None, None
+        wanted = self.readings.preview()
+        if wanted is None:
+            return None, None
+        spec, label = wanted
+        parsed = s.cached_preview(col, spec)
+        if parsed is None and len(s.raw.column(col)) < self.preview_in_thread_rows:
+            parsed = s.preview(col, spec)
+        if parsed is None:
+            self._start_preview(col, spec)
+            return None, None
+        return parsed, label
+
+    def _start_preview(self, col: str, spec: ParseSpec) -> None:
+        """Work out a big column's preview in a Job (one at a time: when it ends, the cells are
+        shown again, which starts the next one if the column or the choices changed)."""
+        s = self.session
+        if s is None or (self._preview_job is not None and self._preview_job.is_running()):
+            return
+
+        def done(_result: object) -> None:
+            if self.session is s and self.column is not None and self.column not in s.clean.parsed:
+                self._show_cells(keep_filter=True)
+
+        self._preview_job = self.run_job(
+            f"Previewing the first reading of “{col}”",
+            lambda _progress: s.preview(col, spec),
+            done,
+        )
 
     def say(self, text: str) -> None:
         self.status.setText(text)
@@ -543,6 +591,14 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         for job in list(self.jobs):
             job.wait()
         super().closeEvent(event)
+
+
+def _first_date_column(s: Session) -> str | None:
+    """The column shown first: the first one read as dates or looking like dates."""
+    for name in s.raw.names:
+        if name in s.clean.parsed or s.report(name).is_date:
+            return name
+    return s.raw.names[0] if s.raw.names else None
 
 
 class _Focus:

@@ -41,6 +41,8 @@ class ParsedColumn:
     - ``state``: int8 ``CellState``.
     - ``pattern``: int16 index into ``patterns`` (-1 where no pattern applied).
     - ``reason``: object array, a sentence for FAILED/AMBIGUOUS/BLANK-by-token cells, else None.
+    - ``labels``: a short human label for each of ``patterns`` ("D/M/YYYY", "serial 1900"), or
+      () where none was worked out (show the pattern ids then).
     """
 
     source: str
@@ -53,6 +55,13 @@ class ParsedColumn:
     reason: np.ndarray
     name: str | None = None  # output column name; None means the source name
     date_only: bool = False  # a step dropped the time part
+    labels: tuple[str, ...] = ()
+
+    def pattern_label(self, i: int) -> str:
+        """The human label of pattern ``i`` (its id when there is no label); "" for -1."""
+        if not 0 <= i < len(self.patterns):
+            return ""
+        return self.labels[i] if len(self.labels) == len(self.patterns) else self.patterns[i]
 
     @property
     def output_name(self) -> str:

@@ -893,7 +893,33 @@ def parse_column(
         pattern=pat,
         patterns=patterns,
         reason=reason,
+        labels=pattern_labels(patterns, spec, res if len(rows) else None),
     )
+
+
+def pattern_labels(
+    patterns: tuple[str, ...], spec: ParseSpec, res: TextResult | None = None
+) -> tuple[str, ...]:
+    """A short human label for each pattern a column was read with, in the spec's day order
+    and date system: "D/M/YYYY", "serial 1900", "date cell". With the texts' result ``res``, a
+    pattern whose every reading wrote a two-digit year is labelled so ("D/M/YY"); one with
+    both kinds of year names both ("D/M/YY or D/M/YYYY")."""
+    kw = {"day_order": spec.day_order, "date_system": spec.date_system}
+    out = []
+    for k, pid in enumerate(patterns):
+        full = label(pid, **kw)
+        short = label(pid, two_digit_year=True, **kw)
+        two = np.zeros(0, dtype=bool)
+        if res is not None and short != full:
+            read = (res.pattern == k) & (res.state != CellState.FAILED)
+            two = res.two_digit[read]
+        if not two.any():
+            out.append(full)
+        elif two.all():
+            out.append(short)
+        else:
+            out.append(f"{short} or {full}")
+    return tuple(out)
 
 
 def _gather(per_text: np.ndarray, typ: object, fill: object, at: np.ndarray) -> np.ndarray:

@@ -202,6 +202,22 @@ def test_the_preview_follows_the_choices_and_records_nothing(qtbot, window, smal
     assert window.cells.model.previewing
 
 
+def test_pattern_column_and_groups_name_the_way_of_writing(qtbot, window, small_csv):
+    adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    m = window.cells.model
+    k, p = m.column_of(Column.KEY), m.column_of(Column.PATTERN)
+    shown = {m.data(m.index(i, k)): m.data(m.index(i, p)) for i in range(m.rowCount())}
+    assert shown["R001"] == "D/M/YYYY"  # 03/10/2019, day first (not the engine's id)
+    assert shown["R009"] == ""  # "ask Sam": no pattern reads it
+    box = window.cells.show_box
+    data = [str(box.itemData(i)) for i in range(box.count())]
+    groups = [box.itemText(i) for i, d in enumerate(data) if d.startswith("pattern:")]
+    # the seven D/M/YYYY texts: R001, R002, R004 (31/02/2022, no such day), R005-R007, R010
+    assert groups == ["pattern group: D/M/YYYY (7)"]
+
+
 def test_a_big_column_works_out_its_preview_in_a_job(qtbot, window, small_csv):
     window.preview_in_thread_rows = 0  # treat every column as big
     with qtbot.waitSignal(window.job_started, timeout=5000) as started:

@@ -491,7 +491,7 @@ class CellsModel(QAbstractTableModel):
             i = int(p.pattern[r])
             if p.state[r] == _MANUAL:
                 return "by hand"
-            return p.patterns[i] if 0 <= i < len(p.patterns) else ""
+            return p.pattern_label(i)
         if col is Column.NOTE:
             reason = p.reason[r]
             broken = [label for label, hits in src.rule_hits.items() if hits[r]]

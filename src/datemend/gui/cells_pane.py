@@ -205,8 +205,9 @@ class CellsPane(QWidget):
             counts = np.bincount(
                 parsed.pattern[parsed.pattern >= 0].astype(np.int64), minlength=len(parsed.patterns)
             )
-            for i, name in enumerate(parsed.patterns):
+            for i in range(len(parsed.patterns)):
                 if counts[i]:
+                    name = parsed.pattern_label(i)
                     self.show_box.addItem(f"pattern group: {name} ({counts[i]:,})", f"pattern:{i}")
         if hits is None:
             hits = {} if self.model.source is None else self.model.source.rule_hits

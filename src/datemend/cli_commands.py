@@ -125,7 +125,11 @@ def format_report(rep: ColumnReport, *, examples: int = 3) -> list[str]:
         for f in best.failures[:examples]:
             lines.append(f'                 row {f.source_row}: "{f.raw}" — {f.text}')
     if len(rep.suggestions) > 1:
-        others = "; ".join(s.label for s in rep.suggestions[1:3])
+        # a reading with the best one's label differs in a rule: its first evidence says which
+        others = "; ".join(
+            s.label + (f" ({s.evidence[0]})" if s.label == best.label and s.evidence else "")
+            for s in rep.suggestions[1:3]
+        )
         lines.append(f"  other readings: {others}")
     return lines
 

@@ -162,3 +162,14 @@ def test_replay_never_replaces_an_existing_output_without_overwrite(tmp_path, ca
     assert code == 3
     assert "--overwrite" in capsys.readouterr().err
     assert out.read_text(encoding="utf-8") == "keep me"
+
+
+def test_scan_says_how_a_reading_with_the_same_label_differs(capsys):
+    """Born's second reading has the same patterns as the best one and another century rule
+    for two-digit years: the line of other readings says which rule."""
+    assert main(["scan", str(SAMPLES / "rowing_club_2026-10.xlsx")]) == 0
+    out = capsys.readouterr().out
+    born = out[out.index("Born  —") : out.index("Joined  —")]
+    best = re.search(r"best reading : (.+)", born).group(1)
+    others = re.search(r"other readings: (.+)", born).group(1)
+    assert others.startswith(best + " (two-digit years by the POSIX rule")

@@ -218,6 +218,17 @@ def test_pattern_column_and_groups_name_the_way_of_writing(qtbot, window, small_
     assert groups == ["pattern group: D/M/YYYY (7)"]
 
 
+def test_a_column_already_read_keeps_its_cells_when_a_choice_changes(qtbot, window, small_csv):
+    adopt(window, small_csv)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    shown = window.cells.model.source
+    r = window.readings
+    r.day_order.setCurrentIndex(r.day_order.findData("mdy"))  # a choice for the next use
+    assert window.cells.model.source is shown  # not shown again (nor scrolled back)
+    assert reads_as(window)["R002"] == ("2021-02-14", "✓ read")  # still the day-first reading
+
+
 def test_a_big_column_works_out_its_preview_in_a_job(qtbot, window, small_csv):
     window.preview_in_thread_rows = 0  # treat every column as big
     with qtbot.waitSignal(window.job_started, timeout=5000) as started:

@@ -109,7 +109,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         self.readings.use_requested.connect(self._use_reading)
         self.readings.blank_requested.connect(self._blank_tokens)
         self.readings.problem.connect(self.show_error)
-        self.readings.choices_changed.connect(lambda: self._show_cells(keep_filter=True))
+        self.readings.choices_changed.connect(self._choices_changed)
         self.cells.hand_set_requested.connect(self._hand_set)
         self.cells.run_job = self.run_job
         self.fixlog.toggle_requested.connect(self._toggle_step)
@@ -445,6 +445,12 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
             preview,
         )
         self.cells.set_source(src, keep_filter=keep_filter)
+
+    def _choices_changed(self) -> None:
+        """The preview follows the Readings choices (a column already read keeps its view)."""
+        s = self.session
+        if s is not None and self.column is not None and self.column not in s.clean.parsed:
+            self._show_cells(keep_filter=True)
 
     def _preview_of(self, col: str) -> tuple[ParsedColumn | None, str | None]:
         """(dates, label) of the first reading of a column not read yet, with the Readings

@@ -128,11 +128,12 @@ class _Card(QFrame):
         self.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Minimum)
         self.use = QPushButton("Use this reading")
         self.use.setAccessibleName(f"Use reading {rank}: {s.label}")
-        lay.addWidget(self.text)
+        # the button first: it stays in view however long the evidence below it runs
         row = QHBoxLayout()
         row.addStretch(1)
         row.addWidget(self.use)
         lay.addLayout(row)
+        lay.addWidget(self.text)
 
     def resizeEvent(self, event: QResizeEvent) -> None:
         # A word-wrapped label inside a scroll area does not ask for its full height by itself.

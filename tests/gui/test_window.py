@@ -287,6 +287,15 @@ def test_replay_october_log_on_november_shows_drift_then_problems_first(
     assert states[: len(problems)] == problems  # problems first
 
 
+@needs_samples
+def test_the_first_reading_s_use_button_is_in_view_beside_long_evidence(qtbot, window):
+    adopt(window, NOVEMBER)
+    window.columns.choose("Last outing")  # the longest card: an undecidable order, many notes
+    qtbot.wait(50)  # let the cards lay out
+    use = window.readings.cards[0].use
+    assert not use.visibleRegion().isEmpty(), "the Use button is scrolled out of view"
+
+
 # ------------------------------------------------------------------------- small invented CSV
 def test_hand_set_by_double_click_then_undo_and_redo(qtbot, window, small_csv):
     adopt(window, small_csv)

@@ -174,6 +174,12 @@ def test_cells_show_a_preview_of_the_first_reading_before_it_is_used(qtbot, wind
         assert not m.flags(idx) & Qt.ItemFlag.ItemIsEditable  # no hand set on a preview
         assert m.data(idx, Qt.ItemDataRole.FontRole).italic()
     before = reads_as(window)
+    window.columns.choose("Member no")  # not dates (a few numbers could be serials)
+    assert not m.previewing
+    r = m.column_of(Column.READS)
+    assert [m.data(m.index(i, r)) for i in range(m.rowCount())] == [""] * 300
+    window.columns.choose("Joined")
+    assert m.previewing
     click_first_reading(qtbot, window)
     assert not m.previewing
     assert m.headerData(m.column_of(Column.READS), Qt.Orientation.Horizontal) == "Reads as"

@@ -295,7 +295,11 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
             session.scan_all(progress)
             progress.check()  # a Stop pressed during the last column still stops the open
             first = _first_date_column(session)
-            if first is not None and first not in session.clean.parsed:
+            if (
+                first is not None
+                and first not in session.clean.parsed
+                and session.report(first).is_date
+            ):
                 # the column shown first: its preview is ready when the window shows it
                 useful = useful_readings(session.report(first))
                 if useful:
@@ -453,13 +457,14 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
             self._show_cells(keep_filter=True)
 
     def _preview_of(self, col: str) -> tuple[ParsedColumn | None, str | None]:
-        """(dates, label) of the first reading of a column not read yet, with the Readings
-        choices laid over it: worked out here for a small column; for a big one in a Job, and
-        shown when it is done. (None, None) meanwhile, or when there is no reading to use."""
+        """(dates, label) of the first reading of a column not read yet that looks like dates,
+        with the Readings choices laid over it: worked out here for a small column; for a big
+        one in a Job, and shown when it is done. (None, None) meanwhile, or when there is no
+        reading to use."""
         s = self.session
         report = self.readings.report
-        if s is None or report is None or report.column != col:
-            return None, None
+        if s is None or report is None or report.column != col or not report.is_date:
+            return None, None  # a column the scan finds no dates in shows no preview
         wanted = self.readings.preview()
         if wanted is None:
             return None, None

@@ -124,6 +124,7 @@ class _Card(QFrame):
         self.text = QLabel(suggestion_html(rank, s))
         self.text.setWordWrap(True)
         self.text.setTextFormat(Qt.TextFormat.RichText)
+        self.text.setAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignTop)
         self.text.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Minimum)
         self.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Minimum)
         self.use = QPushButton("Use this reading")

@@ -93,6 +93,10 @@ def report_to_dict(rep: ColumnReport, *, failures: int = 20) -> dict[str, Any]:
     return d
 
 
+def _rows(n: int) -> str:
+    return f"{n:,} row" if n == 1 else f"{n:,} rows"
+
+
 def format_report(rep: ColumnReport, *, examples: int = 3) -> list[str]:
     """Readable lines for one column."""
     best = rep.best
@@ -250,7 +254,7 @@ def run_auto(args: argparse.Namespace) -> int:
         for r in reports
         if r.is_date and r.best is not None and r.best.decisions.get("day_order") == "undecided"
     ]
-    print(f"Wrote {result.path} ({result.rows} rows, {result.writer_text}).")
+    print(f"Wrote {result.path} ({_rows(result.rows)}, {result.writer_text}).")
     if not lines:
         print("No date columns found; the output is a copy of the input's cells.")
     else:
@@ -336,7 +340,7 @@ def run_replay(args: argparse.Namespace) -> int:
         overwrite=args.overwrite,
         progress=progress,
     )
-    print(f"Wrote {result.path} ({result.rows} rows, {result.writer_text}).")
+    print(f"Wrote {result.path} ({_rows(result.rows)}, {result.writer_text}).")
     print("\n".join(lines))
     if unresolved:
         print(f"{unresolved} cells stayed unresolved; they keep their raw text in the output.")

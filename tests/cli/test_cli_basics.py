@@ -71,3 +71,10 @@ def test_output_over_source_is_refused(tmp_path):
         check_output_path(other, str(src), overwrite=False)
     check_output_path(other, str(src), overwrite=True)  # allowed: no exception
     assert other.read_text() == "x"
+
+
+def test_one_row_is_said_in_the_singular(tmp_path, capsys):
+    src = tmp_path / "one.csv"
+    src.write_text("Member,Joined\nR1,2019-10-03\n", encoding="utf-8")
+    main(["auto", str(src), "-o", str(tmp_path / "out.csv")])
+    assert "(1 row," in capsys.readouterr().out

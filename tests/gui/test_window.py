@@ -11,6 +11,7 @@ from __future__ import annotations
 import datetime as dt
 import functools
 import json
+import re
 import threading
 from pathlib import Path
 
@@ -300,6 +301,52 @@ def test_the_first_reading_s_use_button_is_in_view_beside_long_evidence(qtbot, w
     qtbot.wait(50)  # let the cards lay out
     use = window.readings.cards[0].use
     assert not use.visibleRegion().isEmpty(), "the Use button is scrolled out of view"
+
+
+@needs_samples
+def test_show_in_cells_previews_another_reading(qtbot, window):
+    s = adopt(window, OCTOBER)
+    window.columns.choose("Last outing")  # day and month undecided: cells unclear at first
+    m, r = window.cells.model, window.readings
+    assert "preview of reading 1" in window.cells.title.text()
+    assert any(state.startswith("?") for _v, state in reads_as(window).values())
+    labels = [c.suggestion.label for c in r.cards]
+    k = labels.index("D/M/YYYY 100%")  # the day-first reading
+    assert not r.cards[0].show_button.isEnabled()  # "Shown in Cells"
+    qtbot.mouseClick(r.cards[k].show_button, Qt.MouseButton.LeftButton)
+    assert f"preview of reading {k + 1}" in window.cells.title.text()
+    assert r.cards[0].show_button.isEnabled() and not r.cards[k].show_button.isEnabled()
+    raw_col, reads = m.column_of(Column.RAW), m.column_of(Column.READS)
+    checked = 0
+    for i in range(m.rowCount()):
+        raw = m.data(m.index(i, raw_col))
+        if re.fullmatch(r"\d\d/\d\d/\d{4}", raw):
+            # reference: datetime.strptime, day first
+            want = dt.datetime.strptime(raw, "%d/%m/%Y").date().isoformat()
+            assert m.data(m.index(i, reads)) == want, raw
+            checked += 1
+    assert checked > 200
+    assert len(s.log.entries) == 0  # a preview records nothing
+    click = r.cards[k].use
+    with qtbot.waitSignal(window.table_refreshed, timeout=10_000):
+        qtbot.mouseClick(click, Qt.MouseButton.LeftButton)
+    assert s.log.entries[-1].step.spec.day_order == "dmy"
+    assert not m.previewing
+    assert not r.cards[0].show_button.isVisible()  # a read column offers no preview
+
+
+@needs_samples
+def test_a_column_that_is_not_dates_is_previewed_only_when_asked(qtbot, window):
+    s = adopt(window, OCTOBER)
+    window.columns.choose("Member no")
+    m, r = window.cells.model, window.readings
+    assert not m.previewing
+    assert r.cards and all(c.show_button.isEnabled() for c in r.cards)
+    qtbot.mouseClick(r.cards[0].show_button, Qt.MouseButton.LeftButton)
+    assert m.previewing
+    reads = m.column_of(Column.READS)
+    assert any(m.data(m.index(i, reads)) for i in range(m.rowCount()))
+    assert len(s.log.entries) == 0
 
 
 # ------------------------------------------------------------------------- small invented CSV

@@ -120,7 +120,7 @@ class CellsSource:
     keys: np.ndarray | RawColumn | None = None  # the key of each row (a column, or values)
     key_name: str | None = None
     rule_hits: dict[str, np.ndarray] = field(default_factory=dict)  # rule label -> rows breaking it
-    #: set when ``parsed`` is only a preview (a reading not used yet): the reading's label
+    #: set when ``parsed`` is only a preview (a reading not used yet): its name, "reading 2"
     preview: str | None = None
 
     def problems(self) -> np.ndarray | None:
@@ -460,8 +460,8 @@ class CellsModel(QAbstractTableModel):
             if col is Column.READS:
                 if src.preview is not None:
                     return (
-                        f"Preview of the reading “{src.preview}”: nothing is recorded until you "
-                        "press Use this reading."
+                        f"Preview of {src.preview} in Readings: nothing is recorded until you "
+                        "press its Use this reading."
                     )
                 return "Double-click to set this cell by hand (recorded in the fix log)."
             return None

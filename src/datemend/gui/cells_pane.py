@@ -163,12 +163,12 @@ class CellsPane(QWidget):
         title = f"<b>Cells</b> of “{html.escape(source.raw.name)}”" if source else "<b>Cells</b>"
         chart_title = "<b>Date spread</b> — click a bar to see its rows"
         if source is not None and source.preview is not None:
-            title += " — <i>preview of the first reading: not used yet</i>"
+            title += f" — <i>preview of {html.escape(source.preview)}: not used yet</i>"
             chart_title += " <i>(preview)</i>"
         self.title.setText(title)
         self.title.setToolTip(
-            "The dates shown are what the first reading in Readings gives, with the choices "
-            "there; nothing is in the fix log until you press Use this reading."
+            f"The dates shown are what {source.preview} in Readings gives, with the choices "
+            "there; nothing is in the fix log until you press its Use this reading."
             if source is not None and source.preview is not None
             else ""
         )

@@ -57,7 +57,8 @@ file.</p>
 <li>Pick a column in <b>Columns</b>; the <b>Cells</b> table shows each cell as written and what it
 reads as, with a mark: ✓ read, ○ blank, ✗ not read, ? unclear, ✎ set by hand.</li>
 <li>Until a reading is used, <b>Cells</b> shows what the first reading in <b>Readings</b>
-would give (in italics, “Reads as (preview)”); nothing is recorded yet.</li>
+would give (in italics, “Reads as (preview)”); <i>Show in Cells</i> on another reading shows
+that one instead. Nothing is recorded yet.</li>
 <li>In <b>Readings</b>, press <i>Use this reading</i>; the step appears in the <b>Fix log</b>.</li>
 <li>Double-click a “Reads as” cell to set it by hand (ISO 8601, e.g. 2026-10-03).</li>
 <li>The <b>Date spread</b> shows where dates fall; hatched bars with “!” are set apart

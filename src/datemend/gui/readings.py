@@ -8,7 +8,8 @@ Signals:
     use_requested(object, str): a ParseSpec to record as the column's reading, and its label.
     blank_requested(object): a tuple of tokens to record as "treat as blank".
     problem(str): a choice cannot be used (one sentence, e.g. an unknown zone name).
-    choices_changed(): one of those choices changed (the Cells preview follows it).
+    preview_changed(): the reading shown in Cells (before one is used) or a choice laid over
+        it changed; the Cells preview follows.
 """
 
 from __future__ import annotations
@@ -129,12 +130,23 @@ class _Card(QFrame):
         self.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Minimum)
         self.use = QPushButton("Use this reading")
         self.use.setAccessibleName(f"Use reading {rank}: {s.label}")
+        self.show_button = QPushButton("Show in Cells")
+        self.show_button.setToolTip(
+            "Show what this reading gives in Cells, in italics; nothing is recorded."
+        )
+        self.show_button.setAccessibleName(f"Show reading {rank} in Cells: {s.label}")
         # the button first: it stays in view however long the evidence below it runs
         row = QHBoxLayout()
         row.addStretch(1)
+        row.addWidget(self.show_button)
         row.addWidget(self.use)
         lay.addLayout(row)
         lay.addWidget(self.text)
+
+    def set_shown(self, shown: bool) -> None:
+        """Mark the card whose reading Cells shows (its button then says so)."""
+        self.show_button.setEnabled(not shown)
+        self.show_button.setText("Shown in Cells" if shown else "Show in Cells")
 
     def resizeEvent(self, event: QResizeEvent) -> None:
         # A word-wrapped label inside a scroll area does not ask for its full height by itself.
@@ -147,7 +159,7 @@ class ReadingsPanel(QWidget):
 
     use_requested = Signal(object, str)
     blank_requested = Signal(object)
-    choices_changed = Signal()
+    preview_changed = Signal()
     problem = Signal(str)
 
     def __init__(self, parent: QWidget | None = None) -> None:
@@ -156,6 +168,7 @@ class ReadingsPanel(QWidget):
         self.report: ColumnReport | None = None
         self.cards: list[_Card] = []
         self._useful: list[Suggestion] = []
+        self._chosen: int | None = None  # the reading "Show in Cells" chose (into _useful)
         self._tokens: tuple[str, ...] = ()
         self.summary = QLabel("Pick a column to see the ways it can be read.")
         self.summary.setWordWrap(True)
@@ -187,9 +200,9 @@ class ReadingsPanel(QWidget):
         )
 
         for box in (self.day_order, self.century, self.date_system):
-            box.currentIndexChanged.connect(lambda _i: self.choices_changed.emit())
-        self.pivot.valueChanged.connect(lambda _v: self.choices_changed.emit())
-        self.zone.editingFinished.connect(self.choices_changed.emit)
+            box.currentIndexChanged.connect(lambda _i: self.preview_changed.emit())
+        self.pivot.valueChanged.connect(lambda _v: self.preview_changed.emit())
+        self.zone.editingFinished.connect(self.preview_changed.emit)
 
         choices = QFormLayout()
         choices.addRow("Day and month:", self.day_order)
@@ -233,6 +246,7 @@ class ReadingsPanel(QWidget):
             card.deleteLater()
         self.cards = []
         self._useful = []
+        self._chosen = None
         if report is None:
             self.summary.setText("Pick a column to see the ways it can be read.")
             self.blank_button.setVisible(False)
@@ -269,12 +283,17 @@ class ReadingsPanel(QWidget):
         for i, s in enumerate(useful, start=1):
             card = _Card(i, s, self._cards_box)
             card.use.clicked.connect(lambda _=False, s=s: self._use(s))
+            card.show_button.clicked.connect(lambda _=False, k=i - 1: self.show_reading(k))
             self._cards_lay.insertWidget(len(self.cards), card)
             self.cards.append(card)
+        self._mark_shown()
 
     def set_blank_state(self, read: bool, blank: set[str]) -> None:
         """Offer "Treat as blank" for the scan's placeholder tokens the fix log does not blank yet,
-        once the column is read (before that, a reading's own blank tokens cover them)."""
+        once the column is read (before that, a reading's own blank tokens cover them). A read
+        column shows no preview, so its cards offer no "Show in Cells"."""
+        for card in self.cards:
+            card.show_button.setVisible(not read)
         places = self.report.placeholders if self.report is not None else ()
         todo = tuple((t, n) for t, n in places if t.strip().casefold() not in blank)
         self._tokens = tuple(t for t, _ in todo)
@@ -302,17 +321,40 @@ class ReadingsPanel(QWidget):
             changes["zone"] = zone
         return dataclasses.replace(s.spec, **changes) if changes else s.spec
 
-    def preview(self) -> tuple[ParseSpec, str] | None:
-        """(spec, label) of the first reading with the choices laid over it: what *Use this
-        reading* on it would record, shown in Cells before anything is recorded. None when
-        there is no reading to use or a choice is not valid (an unknown zone)."""
+    @property
+    def shown(self) -> int | None:
+        """Which reading Cells shows before one is used (0 = the first): the one "Show in
+        Cells" chose, else the first for a column that looks like dates, else none."""
         if not self._useful:
             return None
-        first = self._useful[0]
+        if self._chosen is not None:
+            return min(self._chosen, len(self._useful) - 1)
+        return 0 if self.report is not None and self.report.is_date else None
+
+    def preview(self) -> tuple[ParseSpec, str] | None:
+        """(spec, name) of the reading Cells shows before one is used (``shown``; the name is
+        "reading 2"), with the choices laid over it: what its *Use this reading* would record.
+        None when no reading is shown or a choice is not valid (an unknown zone)."""
+        k = self.shown
+        if k is None:
+            return None
         try:
-            return self.spec_for(first), first.label
+            return self.spec_for(self._useful[k]), f"reading {k + 1}"
         except ValueError:
             return None
+
+    def show_reading(self, k: int) -> None:
+        """Show reading ``k`` (0 = the first) in Cells, before any is used."""
+        if not 0 <= k < len(self._useful) or k == self.shown:
+            return
+        self._chosen = k
+        self._mark_shown()
+        self.preview_changed.emit()
+
+    def _mark_shown(self) -> None:
+        shown = self.shown
+        for k, card in enumerate(self.cards):
+            card.set_shown(k == shown)
 
     def _use(self, s: Suggestion) -> None:
         try:

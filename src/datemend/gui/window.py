@@ -109,7 +109,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         self.readings.use_requested.connect(self._use_reading)
         self.readings.blank_requested.connect(self._blank_tokens)
         self.readings.problem.connect(self.show_error)
-        self.readings.choices_changed.connect(self._choices_changed)
+        self.readings.preview_changed.connect(self._preview_changed)
         self.cells.hand_set_requested.connect(self._hand_set)
         self.cells.run_job = self.run_job
         self.fixlog.toggle_requested.connect(self._toggle_step)
@@ -450,22 +450,23 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         )
         self.cells.set_source(src, keep_filter=keep_filter)
 
-    def _choices_changed(self) -> None:
-        """The preview follows the Readings choices (a column already read keeps its view)."""
+    def _preview_changed(self) -> None:
+        """The preview follows the reading shown and the Readings choices (a column already
+        read keeps its view)."""
         s = self.session
         if s is not None and self.column is not None and self.column not in s.clean.parsed:
             self._show_cells(keep_filter=True)
 
     def _preview_of(self, col: str) -> tuple[ParsedColumn | None, str | None]:
-        """(dates, label) of the first reading of a column not read yet that looks like dates,
-        with the Readings choices laid over it: worked out here for a small column; for a big
-        one in a Job, and shown when it is done. (None, None) meanwhile, or when there is no
-        reading to use."""
+        """(dates, name) of the reading Readings shows for a column not read yet (the first,
+        for a column that looks like dates, or the one "Show in Cells" chose), with the choices
+        laid over it: worked out here for a small column; for a big one in a Job, and shown
+        when it is done. (None, None) meanwhile, or when no reading is shown."""
         s = self.session
         report = self.readings.report
-        if s is None or report is None or report.column != col or not report.is_date:
-            return None, None  # a column the scan finds no dates in shows no preview
-        wanted = self.readings.preview()
+        if s is None or report is None or report.column != col:
+            return None, None
+        wanted = self.readings.preview()  # none for a column the scan finds no dates in
         if wanted is None:
             return None, None
         spec, label = wanted
@@ -489,7 +490,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
                 self._show_cells(keep_filter=True)
 
         self._preview_job = self.run_job(
-            f"Previewing the first reading of “{col}”",
+            f"Previewing a reading of “{col}”",
             lambda _progress: s.preview(col, spec),
             done,
         )

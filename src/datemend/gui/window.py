@@ -65,8 +65,8 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
         self._unsubscribe: Any = None
         #: Tables with at least this many rows apply fix-log edits in a Job, off the GUI thread.
         self.apply_in_thread_rows = 200_000
-        #: Columns with at least this many rows work out their preview (the dates the first
-        #: reading gives, shown before it is used) in a Job.
+        #: Columns with at least this many rows work out their preview (the dates a reading
+        #: gives, shown before one is used) in a Job.
         self.preview_in_thread_rows = 200_000
         self._preview_job: Job | None = None
         self.about_dialog: AboutDialog | None = None
@@ -294,14 +294,11 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
             session = Session(raw)
             session.scan_all(progress)
             progress.check()  # a Stop pressed during the last column still stops the open
+            # the column shown first: its preview (of its first reading) is ready when shown
             first = _first_date_column(session)
-            if (
-                first is not None
-                and first not in session.clean.parsed
-                and session.report(first).is_date
-            ):
-                # the column shown first: its preview is ready when the window shows it
-                useful = useful_readings(session.report(first))
+            if first is not None and first not in session.clean.parsed:
+                report = session.report(first)
+                useful = useful_readings(report) if report.is_date else []
                 if useful:
                     session.preview(first, useful[0].spec)
                     progress.check()

@@ -95,6 +95,12 @@ def _export_flags(p: argparse.ArgumentParser) -> None:
     p.add_argument("--zone", help="write zone-aware values in this IANA zone (default UTC)")
     p.add_argument("--delimiter", help="CSV delimiter (default ,)")
     p.add_argument("--bom", action="store_true", help="CSV: start with a UTF-8 BOM")
+    p.add_argument(
+        "--new-workbook",
+        action="store_true",
+        help="XLSX from a workbook: write the table on a new sheet (much faster for big files; "
+        "the source's other sheets, formulas and formats are not copied)",
+    )
 
 
 def _order_flags(p: argparse.ArgumentParser) -> None:

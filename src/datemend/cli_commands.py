@@ -192,6 +192,8 @@ def _export_options(args: argparse.Namespace) -> Any:
         changes["zone"] = args.zone
     if args.delimiter:
         changes["delimiter"] = args.delimiter.replace("\\t", "\t")
+    if args.new_workbook:
+        changes["streaming"] = True
     return ExportOptions(**changes)
 
 

@@ -173,3 +173,30 @@ def test_scan_says_how_a_reading_with_the_same_label_differs(capsys):
     best = re.search(r"best reading : (.+)", born).group(1)
     others = re.search(r"other readings: (.+)", born).group(1)
     assert others.startswith(best + " (two-digit years by the POSIX rule")
+
+
+def test_new_workbook_writes_the_table_on_a_new_sheet(tmp_path, capsys):
+    """--new-workbook: the fast writer for big workbooks; the dates are the same true date
+    cells (checked against the samples' ground truth), the source's other parts are not kept."""
+    import openpyxl
+
+    out = tmp_path / "oct.xlsx"
+    code = main(["auto", str(SAMPLES / "rowing_club_2026-10.xlsx"), "-o", str(out),
+                 "--new-workbook"])  # fmt: skip
+    assert code in (EXIT_OK, EXIT_UNRESOLVED)
+    said = capsys.readouterr().out
+    assert "a new single-sheet workbook" in said
+    wb = openpyxl.load_workbook(out)
+    ws = wb.worksheets[0]
+    head = [c.value for c in ws[1]]
+    j = head.index("Joined")
+    truth = {r["member_no"]: r["cells"][TRUTH["date_columns"].index("Joined")][0]
+             for r in TRUTH["months"]["2026-10"]["rows"]}  # fmt: skip
+    k = head.index("Member no")
+    checked = 0
+    for row in ws.iter_rows(min_row=2, values_only=True):
+        want = truth[row[k]]
+        if want is not None and hasattr(row[j], "date"):
+            assert row[j].date().isoformat() == want
+            checked += 1
+    assert checked > 250

@@ -587,6 +587,26 @@ def test_export_dialog_writes_a_csv(qtbot, window, small_csv, tmp_path):
     assert window.last_export is not None
 
 
+@needs_samples
+def test_export_dialog_can_write_a_new_workbook(qtbot, window, tmp_path):
+    adopt(window, OCTOBER)
+    window.columns.choose("Joined")
+    click_first_reading(qtbot, window)
+    window.act_export.trigger()
+    dialog = window.export_dialog
+    assert dialog.options().streaming is None  # by default an XLSX source workbook is kept
+    dialog.new_workbook.setChecked(True)
+    assert dialog.options().streaming is True
+    target = tmp_path / "oct.xlsx"
+    dialog.path.setText(str(target))
+    with qtbot.waitSignal(window.job_started) as started:
+        qtbot.mouseClick(dialog.ok, Qt.MouseButton.LeftButton)
+    with qtbot.waitSignal(started.args[0].ended, timeout=30_000):
+        pass
+    assert window.last_export.writer == "streaming"
+    assert target.exists()
+
+
 def test_derive_dialog_previews_and_adds_an_age(qtbot, window, small_csv):
     s = adopt(window, small_csv)
     window.columns.choose("Joined")

@@ -149,6 +149,10 @@ class ExportDialog(QDialog):
         self.bom = QCheckBox(
             "Start a CSV with a byte-order mark (some spreadsheet programs want it)"
         )
+        self.new_workbook = QCheckBox(
+            "XLSX: write the table on a new sheet (much faster for big files; the source's "
+            "other sheets, formulas and formats are not copied)"
+        )
         self.replace = QCheckBox("Replace the file if it exists")
         self.where = QLabel()
         self.where.setWordWrap(True)
@@ -161,6 +165,7 @@ class ExportDialog(QDialog):
         form.addRow("Zone for times:", self.zone)
         form.addRow("CSV separator:", self.delimiter)
         form.addRow("", self.bom)
+        form.addRow("", self.new_workbook)
         form.addRow("", self.replace)
         info = QLabel(
             "The source file is never written. XLSX keeps the rest of an XLSX source workbook; "
@@ -197,6 +202,7 @@ class ExportDialog(QDialog):
             zone=self.zone.text().strip() or "UTC",
             delimiter=self.delimiter.currentData(),
             bom=self.bom.isChecked(),
+            streaming=True if self.new_workbook.isChecked() else None,
         )
 
     def _ok(self) -> None:

@@ -64,3 +64,10 @@ def test_without_labels_the_pattern_id_is_shown():
     col = _column(["2024-02-29"])
     got = parse_column(col, ParseSpec(patterns=("iso-date",))).evolve(labels=())
     assert got.pattern_label(0) == "iso-date"
+
+
+def test_an_undecided_day_order_names_both():
+    col = _column(["05/10/2026", "09/10/2026"])
+    got = parse_column(col, ParseSpec(patterns=("num-slash",), day_order=None))
+    assert set(got.state) == {CellState.AMBIGUOUS}  # 5 October or 10 May: nothing decides
+    assert got.labels == ("D/M/YYYY or M/D/YYYY",)

@@ -924,6 +924,8 @@ def pattern_labels(
 
 def _gather(per_text: np.ndarray, typ: object, fill: object, at: np.ndarray) -> np.ndarray:
     """``per_text[at]`` as ``typ``, where code -1 gives ``fill`` (a cell with no text)."""
+    if (per_text == fill).all():  # e.g. no offsets, no times: nothing to gather
+        return np.full(len(at), fill, dtype=typ)
     ext = np.empty(len(per_text) + 1, dtype=typ)
     ext[:-1] = per_text
     ext[-1] = fill

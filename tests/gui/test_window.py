@@ -349,6 +349,28 @@ def test_a_column_that_is_not_dates_is_previewed_only_when_asked(qtbot, window):
     assert len(s.log.entries) == 0
 
 
+@needs_samples
+def test_quick_column_changes_end_on_the_last_column_s_preview(qtbot, window):
+    """Big columns work out their preview in a job, one at a time: choosing columns faster
+    than the jobs run still ends with the preview of the column chosen last."""
+    window.preview_in_thread_rows = 0  # treat every column as big
+    adopt(window, OCTOBER)
+    for col in ("Born", "Joined", "Renewal due"):
+        window.columns.choose(col)
+    m = window.cells.model
+
+    def settled() -> bool:
+        src = m.source
+        return (
+            not window.jobs and src is not None and src.raw.name == "Renewal due" and m.previewing
+        )
+
+    qtbot.waitUntil(settled, timeout=20_000)
+    truth = truth_of("2026-10", "Renewal due")
+    read = {k: v for k, (v, state) in reads_as(window).items() if state.startswith("✓")}
+    assert read and all(v == truth[k] for k, v in read.items())
+
+
 # ------------------------------------------------------------------------- small invented CSV
 def test_hand_set_by_double_click_then_undo_and_redo(qtbot, window, small_csv):
     adopt(window, small_csv)

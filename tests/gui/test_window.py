@@ -119,6 +119,15 @@ def click_first_reading(qtbot, w: MainWindow) -> None:
         qtbot.mouseClick(w.readings.cards[0].use, Qt.MouseButton.LeftButton)
 
 
+def export_through(qtbot, w: MainWindow, target: Path) -> None:
+    """Press Export in the open export dialog with ``target`` as the path; wait for the job."""
+    w.export_dialog.path.setText(str(target))
+    with qtbot.waitSignal(w.job_started) as started:
+        qtbot.mouseClick(w.export_dialog.ok, Qt.MouseButton.LeftButton)
+    with qtbot.waitSignal(started.args[0].ended, timeout=30_000):
+        pass
+
+
 def truth_of(month: str, column: str) -> dict[str, str | None]:
     t = json.loads(TRUTH.read_text(encoding="utf-8"))
     i = t["date_columns"].index(column)
@@ -596,13 +605,8 @@ def test_export_dialog_writes_a_csv(qtbot, window, small_csv, tmp_path):
     window.columns.choose("Joined")
     click_first_reading(qtbot, window)
     window.act_export.trigger()
-    dialog = window.export_dialog
     target = tmp_path / "out.csv"
-    dialog.path.setText(str(target))
-    with qtbot.waitSignal(window.job_started) as started:
-        qtbot.mouseClick(dialog.ok, Qt.MouseButton.LeftButton)
-    with qtbot.waitSignal(started.args[0].ended, timeout=10_000):
-        pass
+    export_through(qtbot, window, target)
     lines = target.read_text(encoding="utf-8").splitlines()
     assert lines[0].split(",")[:3] == ["Member no", "Name", "Joined"]
     assert lines[1].split(",")[2] == "2019-10-03"  # 03/10/2019 day first (datetime.strptime)
@@ -620,11 +624,7 @@ def test_export_dialog_can_write_a_new_workbook(qtbot, window, tmp_path):
     dialog.new_workbook.setChecked(True)
     assert dialog.options().streaming is True
     target = tmp_path / "oct.xlsx"
-    dialog.path.setText(str(target))
-    with qtbot.waitSignal(window.job_started) as started:
-        qtbot.mouseClick(dialog.ok, Qt.MouseButton.LeftButton)
-    with qtbot.waitSignal(started.args[0].ended, timeout=30_000):
-        pass
+    export_through(qtbot, window, target)
     assert window.last_export.writer == "streaming"
     assert target.exists()
 

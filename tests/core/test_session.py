@@ -379,5 +379,7 @@ def test_a_preview_records_nothing_and_is_what_the_reading_gives():
     used = s.clean.parsed["Born"]
     assert np.array_equal(used.value, got.value, equal_nan=True)  # NaT where not read
     assert np.array_equal(used.state, got.state)
+    assert s.cached_preview("Born", ISO) is None  # read now: the preview is not kept
+    assert s.preview("Born", ISO) is not got  # worked out again when asked
     s.set_table(_raw())  # another table: the kept preview is not of it
     assert s.cached_preview("Born", ISO) is None

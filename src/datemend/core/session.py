@@ -201,7 +201,8 @@ class Session:
     def preview(self, column: str, spec: ParseSpec) -> ParsedColumn:
         """What reading ``column`` with ``spec`` gives (what ``use_suggestion`` would record),
         without recording anything: each cell's date shown before a reading is used. The last
-        preview is kept, so asking for the same one again costs nothing."""
+        preview is kept (until its column is read), so asking for the same one again costs
+        nothing."""
         hit = self.cached_preview(column, spec)
         if hit is not None:
             return hit
@@ -507,6 +508,8 @@ class Session:
         prefix = self._tables[: job.start + 1] if job.start else [job.base]
         self._tables = [*prefix, *job.results]
         self._tables_for = job.log
+        if self._preview is not None and self._preview[1] in self.clean.parsed:
+            self._preview = None  # that column is read now: its preview is not shown
 
     def _recompute(self, emit: bool) -> None:
         job = self.apply_job()

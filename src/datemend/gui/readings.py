@@ -62,6 +62,13 @@ def useful_readings(report: ColumnReport) -> list[Suggestion]:
     return [s for s in report.suggestions if s.parsed > 0]
 
 
+def default_shown(report: ColumnReport) -> Suggestion | None:
+    """The reading Cells previews unless "Show in Cells" chose another: the first one offered,
+    for a column that looks like dates (a column that does not is previewed only when asked)."""
+    useful = useful_readings(report)
+    return useful[0] if useful and report.is_date else None
+
+
 def _e(text: object) -> str:
     return html.escape(str(text))
 
@@ -329,7 +336,7 @@ class ReadingsPanel(QWidget):
             return None
         if self._chosen is not None:
             return min(self._chosen, len(self._useful) - 1)
-        return 0 if self.report is not None and self.report.is_date else None
+        return 0 if self.report is not None and default_shown(self.report) is not None else None
 
     def preview(self) -> tuple[ParseSpec, str] | None:
         """(spec, name) of the reading Cells shows before one is used (``shown``; the name is

@@ -35,7 +35,7 @@ from .files import FileAsker, make_settings
 from .fixlog_panel import FixLogPanel, StepRow
 from .flows import FileFlows
 from .jobs import Job, JobBar
-from .readings import ReadingsPanel, useful_readings
+from .readings import ReadingsPanel, default_shown
 
 __all__ = ["MainWindow"]
 
@@ -294,13 +294,12 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
             session = Session(raw)
             session.scan_all(progress)
             progress.check()  # a Stop pressed during the last column still stops the open
-            # the column shown first: its preview (of its first reading) is ready when shown
+            # the column shown first: its preview is ready when the window shows it
             first = _first_date_column(session)
             if first is not None and first not in session.clean.parsed:
-                report = session.report(first)
-                useful = useful_readings(report) if report.is_date else []
-                if useful:
-                    session.preview(first, useful[0].spec)
+                shown = default_shown(session.report(first))
+                if shown is not None:
+                    session.preview(first, shown.spec)
                     progress.check()
             return session, sheets
 
@@ -468,7 +467,7 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
             return None, None
         spec, label = wanted
         parsed = s.cached_preview(col, spec)
-        if parsed is None and len(s.raw.column(col)) < self.preview_in_thread_rows:
+        if parsed is None and s.raw.n_rows < self.preview_in_thread_rows:
             parsed = s.preview(col, spec)
         if parsed is None:
             self._start_preview(col, spec)
@@ -483,8 +482,8 @@ class MainWindow(FileFlows, QMainWindow, FileAsker):
             return
 
         def done(_result: object) -> None:
-            if self.session is s and self.column is not None and self.column not in s.clean.parsed:
-                self._show_cells(keep_filter=True)
+            if self.session is s:
+                self._preview_changed()
 
         self._preview_job = self.run_job(
             f"Previewing a reading of “{col}”",

@@ -34,6 +34,7 @@ import pyarrow.compute as pc
 
 from . import fields as _fields
 from .clean import NAIVE, CellState, ParsedColumn
+from .encode import Encoded, start_encoding
 from .fields import EV_DMY, EV_MDY, Reading, _Features, features, read_pattern
 from .names import ORDINAL_SUFFIX_RE
 from .patterns import label, pattern
@@ -725,13 +726,20 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         out = (rows, codes, _as_objects(dictionary))
         arrow = dictionary.cast(pa.string())  # a large_string column: the engine's own type
     else:
+        finish = None
         if count[TEXT_CELL].sum():
-            code_at, uniques, arrow = _encode_objects(column.values, ~TEXT_CELL[kinds])
-        else:
-            code_at, uniques = np.full(n, -1, dtype=index_type), np.zeros(0, dtype=object)
+            # the text cells' hashing may run on a helper thread while the numbers are read
+            finish = start_encoding(column.values, ~TEXT_CELL[kinds])
+        numbers = None
         if count[NUMBER_KIND].sum():
             at = np.flatnonzero(NUMBER_KIND[kinds])
-            codes, texts = _factorize_numbers(column.values[at], kinds[at])
+            numbers = at, _factorize_numbers(column.values[at], kinds[at])
+        if finish is not None:
+            code_at, uniques, arrow = _encode_objects(column.values, ~TEXT_CELL[kinds], finish())
+        else:
+            code_at, uniques = np.full(n, -1, dtype=index_type), np.zeros(0, dtype=object)
+        if numbers is not None:
+            at, (codes, texts) = numbers
             code_at = code_at.astype(index_type, copy=False)  # writable (see _encode_objects)
             code_at[at] = codes + len(uniques)
             uniques = np.concatenate([uniques, texts])
@@ -785,28 +793,15 @@ def _as_objects(arr: pa.Array) -> np.ndarray:
 
 
 def _encode_objects(
-    values: np.ndarray, skip: np.ndarray
+    values: np.ndarray, skip: np.ndarray, hashed: Encoded | None
 ) -> tuple[np.ndarray, np.ndarray, pa.Array | None]:
-    """As ``_encode_arrow`` (codes, distinct values as Python strings, and as Arrow when Arrow
-    hashed them) for the cells of an object array not in ``skip`` (text cells): Arrow's
-    hashing is about twice as fast as pandas' on Python strings. Anything but strings there (an
-    error cell from a reader that gives no text) takes pandas' path; non-strings become text.
-    Skipped cells are coded -1."""
-    try:
-        arr = pa.array(values, pa.string(), mask=skip)
-    except (pa.ArrowException, TypeError, ValueError, UnicodeError):
-        arr = None
-    if arr is not None and arr.null_count == int(skip.sum()):
-        enc = pc.dictionary_encode(arr)
-        # the codes as a writable numpy copy, -1 at the skipped cells (Arrow leaves its null
-        # slots' codes unspecified)
-        ix = enc.indices
-        width = ix.type.byte_width
-        data = ix.buffers()[1]
-        codes = np.frombuffer(data, f"<i{width}", count=len(ix), offset=ix.offset * width)
-        codes = codes.astype(np.int32 if width <= 4 else np.int64)
-        codes[skip] = -1
-        return codes, _as_objects(enc.dictionary), enc.dictionary
+    """(codes, distinct values as Python strings, and as Arrow when Arrow hashed them) for the
+    cells of an object array not in ``skip`` (text cells), skipped cells coded -1: ``hashed``
+    is Arrow's hashing of them (``encode.start_encoding``), about twice as fast as pandas' on
+    Python strings. Without it (anything but strings there, such as an error cell from a
+    reader that gives no text) pandas hashes them; non-strings become text."""
+    if hashed is not None:
+        return hashed
     at = np.flatnonzero(~skip)
     codes, uniques = pd.factorize(values[at])
     if pd.api.types.infer_dtype(uniques, skipna=False) != "string":
@@ -865,7 +860,7 @@ def parse_column(
             _gather(arr, typ, fill, at) for arr, (typ, fill) in zip(per_text, blank, strict=True)
         )
         # reasons are Python objects: copy only those there are (most cells read have none)
-        said = np.not_equal(res.reason, None)
+        said = ~pd.isna(res.reason)  # a C loop (a compare with None calls Python per text)
         if said.any():
             hit = said[codes]
             reason[rows[hit]] = res.reason[codes[hit]]

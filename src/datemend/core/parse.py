@@ -34,7 +34,7 @@ import pyarrow.compute as pc
 
 from . import fields as _fields
 from .clean import NAIVE, CellState, ParsedColumn
-from .encode import Encoded, start_encoding
+from .encode import start_encoding
 from .fields import EV_DMY, EV_MDY, Reading, _Features, features, read_pattern
 from .names import ORDINAL_SUFFIX_RE
 from .patterns import label, pattern
@@ -726,21 +726,26 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         out = (rows, codes, _as_objects(dictionary))
         arrow = dictionary.cast(pa.string())  # a large_string column: the engine's own type
     else:
-        finish = None
+        finish, skip = None, None
         if count[TEXT_CELL].sum():
             # the text cells' hashing may run on a helper thread while the numbers are read
-            finish = start_encoding(column.values, ~TEXT_CELL[kinds])
+            skip = ~TEXT_CELL[kinds]
+            finish = start_encoding(column.values, skip)
         numbers = None
         if count[NUMBER_KIND].sum():
             at = np.flatnonzero(NUMBER_KIND[kinds])
             numbers = at, _factorize_numbers(column.values[at], kinds[at])
         if finish is not None:
-            code_at, uniques, arrow = _encode_objects(column.values, ~TEXT_CELL[kinds], finish())
+            hashed = finish()
+            if hashed is None:  # not every text cell a str: pandas hashes them
+                code_at, uniques = _factorize_objects(column.values, skip)
+            else:
+                code_at, uniques, arrow = hashed
         else:
             code_at, uniques = np.full(n, -1, dtype=index_type), np.zeros(0, dtype=object)
         if numbers is not None:
             at, (codes, texts) = numbers
-            code_at = code_at.astype(index_type, copy=False)  # writable (see _encode_objects)
+            code_at = code_at.astype(index_type, copy=False)  # writable (as the hashing gives them)
             code_at[at] = codes + len(uniques)
             uniques = np.concatenate([uniques, texts])
             if arrow is not None:
@@ -792,23 +797,18 @@ def _as_objects(arr: pa.Array) -> np.ndarray:
     return arr.to_numpy(zero_copy_only=False).astype(object, copy=False)
 
 
-def _encode_objects(
-    values: np.ndarray, skip: np.ndarray, hashed: Encoded | None
-) -> tuple[np.ndarray, np.ndarray, pa.Array | None]:
-    """(codes, distinct values as Python strings, and as Arrow when Arrow hashed them) for the
-    cells of an object array not in ``skip`` (text cells), skipped cells coded -1: ``hashed``
-    is Arrow's hashing of them (``encode.start_encoding``), about twice as fast as pandas' on
-    Python strings. Without it (anything but strings there, such as an error cell from a
-    reader that gives no text) pandas hashes them; non-strings become text."""
-    if hashed is not None:
-        return hashed
+def _factorize_objects(values: np.ndarray, skip: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(codes, distinct values as text) of the cells of an object array not in ``skip``, by
+    pandas, for text cells Arrow cannot take as strings (such as an error cell from a reader
+    that gives no text; ``encode.start_encoding`` hashes the others about twice as fast);
+    non-strings become text. Skipped cells are coded -1."""
     at = np.flatnonzero(~skip)
     codes, uniques = pd.factorize(values[at])
     if pd.api.types.infer_dtype(uniques, skipna=False) != "string":
         uniques = _numbers_text(uniques)
     code_at = np.full(len(values), -1, dtype=np.int64)
     code_at[at] = codes
-    return code_at, np.asarray(uniques, dtype=object), None
+    return code_at, np.asarray(uniques, dtype=object)
 
 
 _RESULTS: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()

@@ -1,6 +1,7 @@
-"""Shapes of digit groups between one separator are extracted by a quick match and a split
-instead of RE2's submatch extraction; the result must be what ``pyarrow.compute.extract_regex``
-(the reference: RE2's own extraction) gives, on every such shape of the engine."""
+"""Shapes of digit groups between one separator are read by a quick match and a split instead
+of RE2's submatch extraction, their groups read as numbers at once; the result must be what
+``pyarrow.compute.extract_regex`` (the reference: RE2's own extraction) gives, each group read
+by Python's ``int`` and ``len``, on every such shape of the engine."""
 
 from __future__ import annotations
 
@@ -10,7 +11,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 import pytest
 
-from datemend.core.fields import _split_plan, extract
+from datemend.core.fields import _DigitGroups, _extract_matched, _split_plan
 from datemend.core.patterns import PATTERNS, pattern
 
 
@@ -52,12 +53,27 @@ def test_the_engine_has_split_shapes_and_others():
 def test_split_extraction_equals_re2_extraction(seed):
     texts = _texts(seed)
     for rx in _shapes():
-        got, want = extract(texts, rx), pc.extract_regex(texts, rx)
-        assert got.is_valid().equals(want.is_valid()), rx
-        assert want.is_valid().to_numpy(zero_copy_only=False).any(), rx  # the texts reach it
-        valid = want.is_valid()
+        ok, got = _extract_matched(texts, rx)
+        want = pc.extract_regex(texts, rx)
+        valid = want.is_valid().to_numpy(zero_copy_only=False)
+        assert ok.tolist() == valid.tolist(), rx
+        assert valid.any(), rx  # the texts reach it
+        assert isinstance(got, _DigitGroups), rx
         for name in (f.name for f in want.type):
-            assert got.filter(valid).field(name).equals(want.filter(valid).field(name)), rx
+            texts_of = want.filter(pa.array(valid)).field(name).to_pylist()
+            assert got.groups[name].ints.tolist() == [int(t) for t in texts_of], rx
+            assert got.groups[name].lens.tolist() == [len(t) for t in texts_of], rx
+
+
+def test_a_handful_of_texts_is_read_in_python_alike():
+    # at most fields.SMALL texts: the struct of texts, by Python's re
+    texts = pa.array(["3/14/2024", "03/4/24", "3/14", "3-14-2024", None, "12/31/1999x", "1/1/99"])
+    rx = pattern("num-slash").simple
+    ok, got = _extract_matched(texts, rx)
+    want = pc.extract_regex(texts, rx)
+    assert ok.tolist() == want.is_valid().to_numpy(zero_copy_only=False).tolist()
+    assert ok.any() and not ok.all()
+    assert got.equals(want.filter(want.is_valid()))
 
 
 def _timed_texts(seed: int, n: int = 3000) -> pa.Array:

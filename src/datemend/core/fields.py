@@ -104,23 +104,45 @@ def days_from_civil(y: np.ndarray, m: np.ndarray, d: np.ndarray) -> np.ndarray:
     return era * 146097 + doe - 719468
 
 
-def _field(sub: pa.StructArray, name: str) -> pa.Array | None:
+@dataclass
+class _Digits:
+    """One group of digits of every text a digits-only shape matched, read already."""
+
+    ints: np.ndarray  # int64
+    lens: np.ndarray  # int64: how many digits
+
+
+@dataclass
+class _DigitGroups:
+    """The groups of the texts a digits-only shape matched (see ``_split_plan``), read as
+    numbers: what ``_read_fields`` asks of the shape's struct of texts, without the texts."""
+
+    groups: dict[str, _Digits]
+
+
+def _field(sub: pa.StructArray | _DigitGroups, name: str) -> pa.Array | _Digits | None:
+    if isinstance(sub, _DigitGroups):
+        return sub.groups.get(name)
     if sub.type.get_field_index(name) < 0:
         return None
     return sub.field(name)
 
 
-def _lens(f: pa.Array) -> np.ndarray:
+def _lens(f: pa.Array | _Digits) -> np.ndarray:
     """Length of each text (int64)."""
+    if isinstance(f, _Digits):
+        return f.lens
     if len(f) <= SMALL:
         return np.array([len(x or "") for x in f.to_pylist()], dtype=np.int64)
     return pc.utf8_length(f).to_numpy(zero_copy_only=False).astype(np.int64)
 
 
-def _ints(f: pa.Array | None, default: int = -1) -> np.ndarray:
+def _ints(f: pa.Array | _Digits | None, default: int = -1) -> np.ndarray:
     """Digits → int64 (empty or absent → default)."""
     if f is None:
         return np.full(0, default, dtype=np.int64)
+    if isinstance(f, _Digits):  # never empty
+        return f.ints
     if len(f) <= SMALL:
         return np.array([int(x) if x else default for x in f.to_pylist()], dtype=np.int64)
     empty = pc.equal(pc.utf8_length(f), 0)
@@ -291,12 +313,8 @@ def _python_regex(regex: str) -> tuple[re.Pattern[str], tuple[str, ...]]:
 
 
 def extract(texts: pa.Array, regex: str) -> pa.StructArray:
-    """``pyarrow.compute.extract_regex``, in Python for a handful of texts, and by splitting
-    for a shape of digit groups between one separator (see ``_split_plan``)."""
+    """``pyarrow.compute.extract_regex``, in Python for a handful of texts."""
     if len(texts) > SMALL:
-        plan = _split_plan(regex)
-        if plan is not None:
-            return _extract_by_split(texts, regex, *plan)
         return pc.extract_regex(texts, letters_for(regex, texts))
     rx, names = _python_regex(regex)
     rows = []
@@ -346,15 +364,27 @@ def _begins(texts: pa.Array, regex: str) -> np.ndarray:
     return hit.to_numpy(zero_copy_only=False)
 
 
-def _extract_by_split(
-    texts: pa.Array, regex: str, sep: str, names: tuple[str, ...]
-) -> pa.StructArray:
+def _extract_matched(
+    texts: pa.Array, regex: str
+) -> tuple[np.ndarray, pa.StructArray | _DigitGroups]:
+    """(which texts match ``regex``, the fields of those that do). A shape of digit groups
+    between one separator (see ``_split_plan``) is read by splitting the matched texts there
+    and reading all their groups as numbers at once."""
+    plan = _split_plan(regex) if len(texts) > SMALL else None
+    if plan is None:
+        found = extract(texts, regex)
+        ok = found.is_valid().to_numpy(zero_copy_only=False)
+        return ok, found.filter(pa.array(ok))
+    sep, names = plan
     ok = pc.match_substring_regex(texts, regex).fill_null(False).to_numpy(zero_copy_only=False)
-    g = len(names)
+    # each matched text is exactly its groups joined by the separator: g parts, in order
     parts = pc.list_flatten(pc.split_pattern(texts.filter(pa.array(ok)), sep))
-    at = (np.cumsum(ok) - 1) * g  # first group of each matched text among the parts
-    fields = [parts.take(pa.array(np.where(ok, at + j, 0), mask=~ok)) for j in range(g)]
-    return pa.StructArray.from_arrays(fields, names=list(names), mask=pa.array(~ok))
+    g = len(names)
+    ints = pc.cast(parts, pa.int64()).to_numpy(zero_copy_only=False).reshape(-1, g).T.copy()
+    lens = pc.binary_length(parts).to_numpy(zero_copy_only=False).reshape(-1, g).T
+    lens = lens.astype(np.int64)
+    groups = {name: _Digits(ints[j], lens[j]) for j, name in enumerate(names)}
+    return ok, _DigitGroups(groups)
 
 
 def read_pattern(
@@ -411,10 +441,9 @@ def _read(
     groups = []
     rest = ci
     if p.simple:
-        s1 = extract(sub_texts, p.simple)
-        v1 = s1.is_valid().to_numpy(zero_copy_only=False)
+        v1, s1 = _extract_matched(sub_texts, p.simple)
         if v1.any():
-            groups.append((ci[v1], s1.filter(s1.is_valid())))
+            groups.append((ci[v1], s1))
         rest = ci[~v1]
         if len(rest) and len(rest) < len(ci):
             sub_texts = sub_texts.filter(pa.array(~v1))

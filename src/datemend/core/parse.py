@@ -134,7 +134,7 @@ class TextResult:
     def reason(self) -> np.ndarray:
         """Why each text is not PARSED (None where it is), every sentence written."""
         if self._unsaid is not None:
-            self.reason_of(np.arange(len(self.state)))
+            self._write(np.arange(len(self.state)))
             self._unsaid = self._known = None
         return self._reason
 
@@ -145,9 +145,14 @@ class TextResult:
     def reason_of(self, rows: np.ndarray) -> np.ndarray:
         """The reasons of some rows only, written for those rows if not yet."""
         rows = np.asarray(rows, dtype=np.int64)
+        self._write(rows)
+        return self._reason[rows]
+
+    def _write(self, rows: np.ndarray) -> None:
         if self._unsaid is not None and len(rows):
             if self._known is None:
-                self._known = (self.state == CellState.PARSED) | np.not_equal(self._reason, None)
+                # reasons are str or None; pd.isna tests them in a C loop
+                self._known = (self.state == CellState.PARSED) | ~pd.isna(self._reason)
             todo = np.unique(rows[~self._known[rows]])
             if len(todo):
                 raw, spec = self._unsaid
@@ -156,7 +161,6 @@ class TextResult:
                     _apply_zone(again, spec)
                 self._reason[todo] = again.reason
                 self._known[todo] = True
-        return self._reason[rows]
 
 
 def _empty_result(n: int) -> TextResult:
@@ -849,11 +853,13 @@ def parse_column(
         if res is None or len(res.state) != len(uniques):
             res = parse_texts(uniques, spec)
             _apply_zone(res, spec)
+        # each cell's code + 1, 0 where no text: 0 takes the value of a cell with no text,
+        # put first (numpy gathers fastest with its own index type, and every index valid)
+        at = np.zeros(n, dtype=np.intp)
         if len(rows) == n:  # every cell is text
-            at = codes
-        else:  # the code of every cell, -1 where no text: -1 takes the blank put last
-            at = np.full(n, -1, dtype=codes.dtype)
-            at[rows] = codes
+            np.add(codes, 1, out=at)
+        else:
+            at[rows] = codes + 1
         # one gather per array (cheaper than a gather and a scatter to the text cells)
         per_text = (res.value, res.offset, res.has_time, res.state, res.pattern)
         value, offset, has_time, state, pat = (
@@ -862,8 +868,8 @@ def parse_column(
         # reasons are Python objects: copy only those there are (most cells read have none)
         said = ~pd.isna(res.reason)  # a C loop (a compare with None calls Python per text)
         if said.any():
-            hit = said[codes]
-            reason[rows[hit]] = res.reason[codes[hit]]
+            hit = _gather(said, bool, False, at)
+            reason[hit] = res.reason[at[hit] - 1]
     count = column.kind_counts()
     if count[CellKind.DATE] or count[CellKind.DATETIME]:
         dated = (kinds == CellKind.DATE) | (kinds == CellKind.DATETIME)
@@ -918,13 +924,13 @@ def pattern_labels(
 
 
 def _gather(per_text: np.ndarray, typ: object, fill: object, at: np.ndarray) -> np.ndarray:
-    """``per_text[at]`` as ``typ``, where code -1 gives ``fill`` (a cell with no text)."""
+    """``per_text[at - 1]`` as ``typ``, where ``at`` 0 gives ``fill`` (a cell with no text)."""
     if (per_text == fill).all():  # e.g. no offsets, no times: nothing to gather
         return np.full(len(at), fill, dtype=typ)
     ext = np.empty(len(per_text) + 1, dtype=typ)
-    ext[:-1] = per_text
-    ext[-1] = fill
-    return np.take(ext, at, mode="wrap")
+    ext[0] = fill
+    ext[1:] = per_text
+    return np.take(ext, at, mode="clip")  # every index is valid: clip is the quickest check
 
 
 def _date_cells(

@@ -325,7 +325,8 @@ def extract(texts: pa.Array, regex: str) -> pa.StructArray:
     return pa.array(rows, type=typ)
 
 
-_DIGIT_GROUP = re.compile(r"\(\?P<(\w+)>\\d\{\d+(?:,\d+)?\}(?:\|\\d\{\d+(?:,\d+)?\})*\)")
+#: A named group that matches digits only: ``\d``, a digit range, a digit, counts, choices.
+_DIGIT_GROUP = re.compile(r"\(\?P<(\w+)>(?:\\d|\[\d-\d\]|\d|\{\d+(?:,\d+)?\}|\|)+\)")
 
 
 @lru_cache(maxsize=512)
@@ -334,7 +335,8 @@ def _split_plan(regex: str) -> tuple[str, tuple[str, ...]] | None:
     by one literal character that is no digit, as ``^(?P<a>\d{1,2})/(?P<b>\d{1,2})/(?P<y>\d{4})$``.
     A text it matches is then exactly its groups joined by the separator, so splitting the
     text there gives the groups: one quick match (no submatches) and a split, instead of
-    RE2's slower extraction of submatches."""
+    RE2's slower extraction of submatches. One group alone (``^(?P<i>0|[1-9]\d{0,6})$``) is
+    the whole text: the separator is then ""."""
     if not (regex.startswith("^") and regex.endswith("$")):
         return None
     body = regex[1:-1]
@@ -343,7 +345,11 @@ def _split_plan(regex: str) -> tuple[str, tuple[str, ...]] | None:
         seps.append(body[pos : m.start()])
         names.append(m.group(1))
         pos = m.end()
-    if pos != len(body) or len(names) < 2 or seps[0] != "" or len(set(seps[1:])) != 1:
+    if pos != len(body) or not names or seps[0] != "":
+        return None
+    if len(names) == 1:
+        return "", tuple(names)
+    if len(set(seps[1:])) != 1:
         return None
     sep = seps[1]
     if len(sep) == 2 and sep[0] == "\\" and not sep[1].isalnum():
@@ -378,7 +384,9 @@ def _extract_matched(
     sep, names = plan
     ok = pc.match_substring_regex(texts, regex).fill_null(False).to_numpy(zero_copy_only=False)
     # each matched text is exactly its groups joined by the separator: g parts, in order
-    parts = pc.list_flatten(pc.split_pattern(texts.filter(pa.array(ok)), sep))
+    parts = texts.filter(pa.array(ok))
+    if sep:
+        parts = pc.list_flatten(pc.split_pattern(parts, sep))
     g = len(names)
     ints = pc.cast(parts, pa.int64()).to_numpy(zero_copy_only=False).reshape(-1, g).T.copy()
     lens = pc.binary_length(parts).to_numpy(zero_copy_only=False).reshape(-1, g).T

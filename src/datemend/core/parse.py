@@ -705,6 +705,15 @@ TEXT_CELL = TEXT_LIKE & ~NUMBER_KIND
 _DISTINCT: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
 
 
+def _of_kinds(kinds: np.ndarray, wanted: np.ndarray, count: np.ndarray) -> np.ndarray:
+    """Which cells have a kind ``wanted`` marks (a table by kind), by comparing with the kinds
+    the column has (``count``: cells per kind): quicker than a lookup by every cell's kind."""
+    mask = np.zeros(len(kinds), dtype=bool)
+    for k in np.flatnonzero(wanted & (count > 0)):
+        mask |= kinds == k
+    return mask
+
+
 def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(row positions of text-like cells, code of each, distinct texts), computed once per
     column (a RawColumn is never changed, so the scan and the parse share the work).
@@ -720,7 +729,7 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
     if int(count[TEXT_LIKE].sum()) == n:
         rows = np.arange(n, dtype=index_type)
     else:
-        rows = np.flatnonzero(TEXT_LIKE[kinds]).astype(index_type)
+        rows = np.flatnonzero(_of_kinds(kinds, TEXT_LIKE, count)).astype(index_type)
     arrow: pa.Array | None = None  # the distinct texts as Arrow, when hashing made them so
     if not len(rows):
         out = (rows.astype(np.int64), np.zeros(0, np.int64), np.zeros(0, dtype=object))
@@ -733,11 +742,11 @@ def distinct_texts(column: RawColumn) -> tuple[np.ndarray, np.ndarray, np.ndarra
         finish, skip = None, None
         if count[TEXT_CELL].sum():
             # the text cells' hashing may run on a helper thread while the numbers are read
-            skip = ~TEXT_CELL[kinds]
+            skip = ~_of_kinds(kinds, TEXT_CELL, count)
             finish = start_encoding(column.values, skip)
         numbers = None
         if count[NUMBER_KIND].sum():
-            at = np.flatnonzero(NUMBER_KIND[kinds])
+            at = np.flatnonzero(_of_kinds(kinds, NUMBER_KIND, count))
             numbers = at, _factorize_numbers(column.values[at], kinds[at])
         if finish is not None:
             hashed = finish()

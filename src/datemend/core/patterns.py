@@ -76,7 +76,8 @@ class Pattern:
     uses_day_order: bool = False
     #: Cheap features (see ``fields.features``) of which a text must have one to be tried.
     needs: tuple[str, ...] = ()
-    #: The shape without its time and zone part, tried first (a cheaper regex; most cells).
+    #: The shape without its time and zone part (or a serial's fraction), tried first (a
+    #: cheaper regex; most cells).
     simple: str | None = None
 
 
@@ -289,12 +290,26 @@ _NEEDS = {
     "asctime": ("alpha",),
 }
 
+#: The optional fraction of a day after a serial number.
+_SERIAL_FRACTION = r"(?:\.(?P<f>\d*))?$"
+
+
+def _simple(p: Pattern) -> str | None:
+    """The shape without its time and zone (or a serial without its fraction): what most
+    values of the pattern look like. What the rest of the shape adds begins with no digit."""
+    if p.shape.endswith(_TZ):
+        return p.shape[: -len(_TZ)] + "$"
+    if p.kind == "serial" and p.shape.endswith(_SERIAL_FRACTION):
+        return p.shape[: -len(_SERIAL_FRACTION)] + "$"
+    return None
+
+
 #: Every pattern by id, in the engine's default priority order.
 PATTERNS: dict[str, Pattern] = {
     p.id: replace(
         p,
         needs=_NEEDS.get(p.id, ("digits",) if p.kind != "cell" else ()),
-        simple=p.shape[: -len(_TZ)] + "$" if p.shape.endswith(_TZ) else None,
+        simple=_simple(p),
     )
     for p in _ALL
 }

@@ -47,6 +47,9 @@ def test_the_engine_has_split_shapes_and_others():
     assert _split_plan(pattern("compact-dmy").shape) is None  # no separator
     assert _split_plan(r"^(?P<a>\d{2})[/-](?P<b>\d{2})$") is None  # a class, not one character
     assert _split_plan(r"^(?P<a>\d{2})\.(?P<b>\d{2})$") == (".", ("a", "b"))
+    assert _split_plan(pattern("serial").simple) == ("", ("i",))  # one group: the whole text
+    assert _split_plan(pattern("serial").shape) is None  # an optional fraction: RE2 extracts
+    assert _split_plan(r"^(?P<a>\d{2})(?P<b>\d{2})$") is None  # no separator between groups
 
 
 @pytest.mark.parametrize("seed", [11, 12, 13])

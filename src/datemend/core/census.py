@@ -23,6 +23,7 @@ from .parse import (
     distinct_arrow,
     distinct_texts,
     fold_texts,
+    lower_case,
     normalise,
     parse_texts,
 )
@@ -264,9 +265,10 @@ def full_view(c: Census, column: RawColumn) -> Census:
     else:
         cells, first = cells_and_first(codes, len(texts))
     arrow = distinct_arrow(column)
-    norm = normalise(arrow)
+    lower = lower_case(arrow)
+    norm = normalise(arrow, lower=lower)
     feats = features(norm)
-    folded = fold_texts(arrow)  # kept: the full parse compares blank tokens with it
+    folded = fold_texts(arrow, lower=lower)  # kept: the full parse compares blank tokens with it
     tokens = pa.array(list(c.blank_tokens), pa.string())
     placeholder = pc.is_in(folded, value_set=tokens).to_numpy(zero_copy_only=False)
     return replace(

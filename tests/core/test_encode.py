@@ -17,17 +17,24 @@ from datemend.core.table import CellKind, RawColumn, count_kinds, kinds_of
 POOL = ["3/4/2024", "2024-03-04", "n/a", "", " 3/4/2024", "12. März 2024", "٣/٤/٢٠٢٤", "x" * 40]
 
 
-def _column(n: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
-    """Texts (some repeated, some new) with number cells between them, which are skipped."""
+def _column(n: int, seed: int, dates: int | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """Texts (some repeated, some new) with number cells between them, which are skipped.
+    ``dates``: how many distinct dates the date texts are drawn from (None: any of 13,776;
+    0: each is seen once); with a few, 3% of the cells are texts seen once, anywhere."""
     rng = random.Random(seed)
     values = np.empty(n, dtype=object)
     skip = np.zeros(n, dtype=bool)
+    few = [f"{1 + j % 12}/{1 + j // 12 % 28}/{1990 + j // 336}" for j in range(dates or 0)]
     for i in range(n):
         r = rng.random()
         if r < 0.1:
             values[i], skip[i] = rng.randint(1, 60000), True
         elif r < 0.5:
             values[i] = rng.choice(POOL)
+        elif dates == 0 or (few and r < 0.53):
+            values[i] = f"once {i}"
+        elif few:
+            values[i] = rng.choice(few)
         else:
             values[i] = f"{rng.randint(1, 12)}/{rng.randint(1, 28)}/{rng.randint(1990, 2030)}"
     return values, skip
@@ -53,6 +60,35 @@ def test_parts_give_what_one_hashing_gives(parts):
     assert list(objects) == want_texts
     assert arrow.to_pylist() == want_texts
     codes[0] = 7  # the caller may write the codes (distinct_texts does)
+
+
+@pytest.mark.parametrize(
+    ("dates", "probed"), [(200, True), (0, False)], ids=["repeating", "mostly-distinct"]
+)
+@pytest.mark.parametrize("parts", [encode.PARTS, (0.1,) * 10, (0.3, 0.0, 0.7)])
+def test_later_parts_are_looked_up_when_the_texts_repeat(monkeypatch, dates, probed, parts):
+    # the first part's distinct texts are at most half its text cells: the later parts are
+    # looked up among the texts seen so far (the cells not found hashed anew); otherwise each
+    # part is hashed alone and the parts joined. Either way: what one hashing gives.
+    made = []
+    real = encode._Probe.__init__
+
+    def spy(self, *a):
+        made.append(True)
+        real(self, *a)
+
+    monkeypatch.setattr(encode._Probe, "__init__", spy)
+    values, skip = _column(20_000, seed=7, dates=dates)
+    got = encode.start_encoding(values, skip, parts=parts)()
+    assert got is not None
+    assert bool(made) == probed
+    codes, objects, arrow = got
+    want_codes, want_texts = _reference(values, skip)
+    assert codes.tolist() == want_codes
+    assert list(objects) == want_texts
+    assert arrow.to_pylist() == want_texts
+    if probed:  # texts first seen in a later part are among them, in their place
+        assert any(t.startswith("once ") for t in want_texts[len(want_texts) // 2 :])
 
 
 @pytest.mark.parametrize("bad_at", [10, 9_000, 19_999])

@@ -4,9 +4,11 @@ Two steps cost most of a big workbook column's scan: turning its Python strings 
 strings (``pyarrow.array``, which holds Python's lock) and hashing those (Arrow's dictionary
 encoding, which lets go of it). On a machine with two cores or more, a column of many text
 cells is converted in parts and each part is hashed on a helper thread while the next part is
-converted, and while the caller goes on with other work (the column's number cells); the
-parts' distinct texts are then joined in order of first appearance, exactly as one hashing of
-the whole column would give them.
+converted, and while the caller goes on with other work (the column's number cells). When
+the first part's texts repeat (most columns), the later parts are looked up among the texts
+seen so far and only the cells not found are hashed anew (``_Probe``); otherwise the parts'
+distinct texts are joined afterwards (``_join``). Either way the codes and distinct texts, in
+order of first appearance, are exactly what one hashing of the whole column gives.
 """
 
 from __future__ import annotations
@@ -42,9 +44,10 @@ def _cores() -> int:
         return os.cpu_count() or 1
 
 
-def _codes(enc: pa.DictionaryArray) -> np.ndarray:
-    """The indices of a dictionary array as numpy, without copying (null slots unspecified)."""
-    ix = enc.indices
+def _codes(enc: pa.DictionaryArray | pa.Array) -> np.ndarray:
+    """The indices of a dictionary array (or an integer array) as numpy, without copying
+    (null slots unspecified)."""
+    ix = enc.indices if isinstance(enc, pa.DictionaryArray) else enc
     width = ix.type.byte_width
     return np.frombuffer(ix.buffers()[1], f"<i{width}", count=len(ix), offset=ix.offset * width)
 
@@ -102,14 +105,51 @@ def _join(
         dictionary = whole.dictionary
         trans = _codes(whole)
         codes = np.empty(n, dtype=np.int32 if n < 2**31 else np.int64)
-        base = 0
-        for (a, b), enc, d in zip(bounds, encs, dicts, strict=True):
+        # the first part's distinct texts come first, in its own order: its codes stand
+        first = 1 if np.array_equal(trans[: len(dicts[0])], np.arange(len(dicts[0]))) else 0
+        base = len(dicts[0]) if first else 0
+        if first:
+            codes[bounds[0][0] : bounds[0][1]] = _codes(encs[0])
+        for (a, b), enc, d in zip(bounds[first:], encs[first:], dicts[first:], strict=True):
             # clip: Arrow leaves the codes of null (skipped) slots unspecified
             np.take(trans[base : base + len(d)], _codes(enc), out=codes[a:b], mode="clip")
             base += len(d)
     codes[skip] = -1
     objects = dictionary.to_numpy(zero_copy_only=False).astype(object, copy=False)
     return codes, objects, dictionary
+
+
+class _Probe:
+    """The parts after the first looked up among the distinct texts seen so far (most texts
+    of a column repeat, so most cells are found), only the cells not found hashed anew: no
+    second hashing of the parts' distinct texts to join them. The distinct texts keep the
+    order of first appearance: the first part's, then each part's new ones in its order."""
+
+    def __init__(self, first: pa.DictionaryArray, bounds: list[tuple[int, int]]) -> None:
+        n = bounds[-1][1]
+        self.codes = np.empty(n, dtype=np.int32 if n < 2**31 else np.int64)
+        a, b = bounds[0]
+        self.codes[a:b] = _codes(first)
+        self.known = [first.dictionary]
+        self.size = len(first.dictionary)
+
+    def add(self, arr: pa.Array, a: int, b: int) -> None:
+        seen = self.known[0] if len(self.known) == 1 else pa.concat_arrays(self.known)
+        found = pc.index_in(arr, value_set=seen)  # null where skipped or not seen yet
+        self.codes[a:b] = _codes(found)
+        if found.null_count > arr.null_count:
+            new = pc.and_(found.is_null(), arr.is_valid()).to_numpy(zero_copy_only=False)
+            enc = pc.dictionary_encode(arr.filter(pa.array(new)))
+            part = self.codes[a:b]
+            part[new] = _codes(enc) + self.size
+            self.known.append(enc.dictionary)
+            self.size += len(enc.dictionary)
+
+    def finish(self, skip: np.ndarray) -> Encoded:
+        dictionary = self.known[0] if len(self.known) == 1 else pa.concat_arrays(self.known)
+        self.codes[skip] = -1
+        objects = dictionary.to_numpy(zero_copy_only=False).astype(object, copy=False)
+        return self.codes, objects, dictionary
 
 
 class _Overlapped:
@@ -130,14 +170,15 @@ class _Overlapped:
         self._thread = threading.Thread(target=self._work, name="datemend-hash", daemon=True)
         self._thread.start()
         try:
-            for a, b in bounds:
+            for i, (a, b) in enumerate(bounds):
                 arr = _convert(values[a:b], skip[a:b])
                 self._parts.append(arr)
                 self._ready.release()
                 if arr is None:
                     self._failed = True
                     break
-                self._taken.acquire()
+                if i < len(bounds) - 1:  # no conversion follows the last part
+                    self._taken.acquire()
         except BaseException:  # (memory, an interrupt): the helper is told to end, not left
             self._parts.append(None)
             self._ready.release()
@@ -146,6 +187,7 @@ class _Overlapped:
 
     def _work(self) -> None:
         encs: list[pa.DictionaryArray] = []
+        probe: _Probe | None = None
         try:
             for i in range(len(self._bounds)):
                 self._ready.acquire()
@@ -153,8 +195,16 @@ class _Overlapped:
                 if arr is None:
                     return
                 self._taken.release()
+                if probe is not None:
+                    probe.add(arr, *self._bounds[i])
+                    continue
                 encs.append(pc.dictionary_encode(arr))
-            self._result = _join(encs, self._bounds, self._skip)
+                if i == 0 and len(encs[0].dictionary) * 2 <= len(arr) - arr.null_count:
+                    probe = _Probe(encs[0], self._bounds)  # texts repeat: look the rest up
+            if probe is not None:
+                self._result = probe.finish(self._skip)
+            else:
+                self._result = _join(encs, self._bounds, self._skip)
         except BaseException as exc:  # handed to the caller by finish()
             self._error = exc
             for _ in range(len(self._bounds)):  # the caller never waits on a dead helper
